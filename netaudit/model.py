@@ -1,0 +1,147 @@
+"""The design model: one format-free picture of a KiCad design.
+
+Readers build a :class:`Design`; everything downstream reads it and never a file.
+All classes are frozen dataclasses; lookups are precomputed indexes, not behaviour.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Iterable, Mapping
+
+# Field names and values engineers use to mark a part as not fitted
+# (common practice, no source): DNP "do not populate", DNM "do not mount", NF "not fitted".
+NOT_FITTED_FIELDS = frozenset({"DNP", "DNM", "NF", "NOT_FITTED", "NOFIT", "NO_FIT"})
+NOT_FITTED_VALUES = frozenset({"DNP", "DNM", "NF", "NC", "N/C", "NOT FITTED", "NOFIT", "NO FIT"})
+_FALSE_WORDS = frozenset({"", "0", "NO", "N", "FALSE", "OFF"})
+
+
+@dataclass(frozen=True)
+class Pin:
+    """A pin of a part: its number, its name (pin function) and electrical type."""
+
+    number: str
+    name: str = ""
+    type: str = ""
+
+
+@dataclass(frozen=True)
+class Node:
+    """One pin of one part on a net."""
+
+    ref: str
+    pin: str
+    pin_function: str = ""
+    pin_type: str = ""
+
+
+@dataclass(frozen=True)
+class Net:
+    name: str
+    nodes: tuple[Node, ...] = ()
+    code: str = ""
+    net_class: str = ""
+
+
+@dataclass(frozen=True)
+class Sheet:
+    """A sheet instance: its path (``/IO_Banks/IO_Buffer_A/``) and the file it comes from."""
+
+    path: str
+    file: str = ""
+    title: str = ""
+    revision: str = ""
+
+
+@dataclass(frozen=True)
+class Part:
+    """A placed part (symbol instance), as the netlist lists it."""
+
+    ref: str
+    value: str = ""
+    footprint: str = ""
+    lib: str = ""
+    lib_part: str = ""
+    description: str = ""
+    fields: tuple[tuple[str, str], ...] = ()
+    dnp: bool = False
+    exclude_from_bom: bool = False
+    sheet_path: str = "/"
+    sheet_file: str = ""
+    pins: tuple[Pin, ...] = ()
+
+    @property
+    def field_map(self) -> dict[str, str]:
+        return dict(self.fields)
+
+    def field(self, name: str, default: str = "") -> str:
+        """A user field by name, case-insensitively."""
+        low = name.lower()
+        for key, value in self.fields:
+            if key.lower() == low:
+                return value
+        return default
+
+    @property
+    def fitted(self) -> bool:
+        return not is_not_fitted(self.value, self.fields, self.dnp, self.exclude_from_bom)
+
+
+def is_not_fitted(value: str, fields: Iterable[tuple[str, str]], dnp: bool,
+                  exclude_from_bom: bool) -> bool:
+    """True when a part is marked not fitted in any of the ways designs mark it.
+
+    KiCad's own ``dnp`` and ``exclude_from_bom`` flags; a field named DNP/DNM/NF whose
+    value is not a "no" word (KiCad writes such fields with value ``DNP`` or ``1``);
+    or a value that is itself DNP/NC/NF.
+    """
+    if dnp or exclude_from_bom:
+        return True
+    if value.strip().upper() in NOT_FITTED_VALUES:
+        return True
+    for name, text in fields:
+        if name.strip().upper() in NOT_FITTED_FIELDS and text.strip().upper() not in _FALSE_WORDS:
+            return True
+    return False
+
+
+@dataclass(frozen=True)
+class Design:
+    """A whole design, as read from one file. Frozen; indexes are built once."""
+
+    path: str
+    format: str                      # kicad-netlist | kicad-xml | kicad-bom-xml | ...
+    sha256: str = ""
+    title: str = ""
+    revision: str = ""
+    tool: str = ""                   # e.g. "Eeschema 9.0.8+1"
+    source: str = ""                 # the schematic the export came from
+    parts: tuple[Part, ...] = ()
+    nets: tuple[Net, ...] = ()
+    sheets: tuple[Sheet, ...] = ()
+    _parts_by_ref: Mapping[str, Part] = field(init=False, repr=False, compare=False)
+    _nets_by_name: Mapping[str, Net] = field(init=False, repr=False, compare=False)
+    _net_of_pin: Mapping[tuple[str, str], str] = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "_parts_by_ref", {p.ref: p for p in self.parts})
+        object.__setattr__(self, "_nets_by_name", {n.name: n for n in self.nets})
+        object.__setattr__(self, "_net_of_pin",
+                           {(node.ref, node.pin): net.name for net in self.nets for node in net.nodes})
+
+    def part(self, ref: str) -> Part | None:
+        return self._parts_by_ref.get(ref)
+
+    def net(self, name: str) -> Net | None:
+        return self._nets_by_name.get(name)
+
+    def net_of(self, ref: str, pin: str) -> str | None:
+        """The name of the net a pin is on, or None when it is on no net."""
+        return self._net_of_pin.get((ref, pin))
+
+    @property
+    def kicad_version(self) -> str:
+        """The KiCad version that wrote the export, e.g. ``9.0.8``, or ``""``."""
+        import re
+        match = re.search(r"(\d+\.\d+(?:\.\d+)?)", self.tool)
+        return match.group(1) if match else ""

@@ -1,0 +1,45 @@
+"""Readers: each design format becomes the same :class:`~netaudit.model.Design`.
+
+``read_design(path)`` chooses the reader by the file's content where it can, and by its
+suffix only for KiCad's schematic and project files. Readers only read.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from ..errors import InputError
+from ..model import Design
+from . import kicad_netlist, kicad_project, kicad_xml
+from .common import decode_text, read_bytes, sha256
+
+PROJECT_SUFFIXES = {".kicad_pro", ".kicad_sch"}
+
+
+def read_design(path: str | Path) -> Design:
+    """Read any supported design file or project folder into a Design."""
+    p = Path(path)
+    if p.is_dir() or p.suffix in PROJECT_SUFFIXES:
+        if not p.exists():
+            raise InputError("no such file or folder", str(p))
+        return kicad_project.read(p)
+    if p.suffix == ".kicad_pcb":
+        raise InputError("reading boards directly is not supported yet; pass the project "
+                         "(.kicad_pro) or an exported netlist (.net)", str(p))
+    data = read_bytes(p)
+    if not data.strip():
+        raise InputError("empty file", str(p))
+    text = decode_text(data, p)
+    digest = sha256(data)
+    if kicad_netlist.looks_like(text):
+        return kicad_netlist.read(text, p, digest)
+    if kicad_xml.looks_like(text):
+        return kicad_xml.read(text, p, digest)
+    if text.lstrip().startswith("(kicad_sch") or text.lstrip().startswith("(kicad_pcb"):
+        raise InputError("a KiCad schematic or board with an unexpected suffix; rename it "
+                         ".kicad_sch or pass the project", str(p), 1, 1)
+    if text.lstrip().startswith("("):
+        return kicad_netlist.read(text, p, digest)  # let the parser say where it goes wrong
+    if text.lstrip().startswith("<"):
+        return kicad_xml.read(text, p, digest)
+    raise InputError("not a KiCad netlist, XML netlist, schematic or project", str(p), 1, 1)

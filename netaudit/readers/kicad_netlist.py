@@ -1,0 +1,95 @@
+"""KiCad S-expression netlists (``.net``): version "E" (KiCad 6-9) and "D" (KiCad 5)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from ..errors import InputError
+from ..model import Design, Net, Node, Part, Pin, Sheet
+from . import sexpr
+from .common import complete_nodes, unescape_kicad
+
+FORMAT = "kicad-netlist"
+
+
+def looks_like(text: str) -> bool:
+    return text.lstrip()[:40].replace(" ", "").startswith("(export")
+
+
+def read(text: str, path: Path, digest: str) -> Design:
+    tree = sexpr.parse(text, str(path))
+    if sexpr.head(tree) != "export":
+        raise InputError("not a KiCad netlist: the file does not start with (export",
+                         str(path), 1, 1)
+    design = sexpr.child(tree, "design") or ["design"]
+    sheets = tuple(_sheet(s) for s in sexpr.children(design, "sheet"))
+    root = sheets[0] if sheets else Sheet("/")
+
+    libpins: dict[tuple[str, str], tuple[Pin, ...]] = {}
+    libparts = sexpr.child(tree, "libparts")
+    if libparts is not None:
+        for lp in sexpr.children(libparts, "libpart"):
+            key = (sexpr.value(lp, "lib"), sexpr.value(lp, "part"))
+            pins_node = sexpr.child(lp, "pins")
+            pins = ()
+            if pins_node is not None:
+                pins = tuple(Pin(sexpr.value(p, "num"), sexpr.value(p, "name"), sexpr.value(p, "type"))
+                             for p in sexpr.children(pins_node, "pin"))
+            libpins[key] = pins
+
+    nets = []
+    nets_node = sexpr.child(tree, "nets")
+    if nets_node is not None:
+        for n in sexpr.children(nets_node, "net"):
+            nodes = tuple(
+                Node(sexpr.value(d, "ref"), sexpr.value(d, "pin"),
+                     sexpr.value(d, "pinfunction"), sexpr.value(d, "pintype"))
+                for d in sexpr.children(n, "node"))
+            nets.append(Net(unescape_kicad(sexpr.value(n, "name")), nodes,
+                            sexpr.value(n, "code"), sexpr.value(n, "class")))
+
+    sheet_files = {s.path: s.file for s in sheets}
+    parts = []
+    comps = sexpr.child(tree, "components")
+    if comps is not None:
+        for c in sexpr.children(comps, "comp"):
+            parts.append(_part(c, libpins, sheet_files))
+
+    return Design(
+        path=str(path), format=FORMAT, sha256=digest,
+        title=root.title, revision=root.revision,
+        tool=sexpr.value(design, "tool"), source=sexpr.value(design, "source"),
+        parts=tuple(parts), nets=complete_nodes(parts, nets), sheets=sheets,
+    )
+
+
+def _sheet(node: list) -> Sheet:
+    tb = sexpr.child(node, "title_block") or ["title_block"]
+    return Sheet(path=sexpr.value(node, "name", "/"), file=sexpr.value(tb, "source"),
+                 title=sexpr.value(tb, "title"), revision=sexpr.value(tb, "rev"))
+
+
+def _part(c: list, libpins: dict, sheet_files: dict[str, str]) -> Part:
+    fields: list[tuple[str, str]] = []
+    fields_node = sexpr.child(c, "fields")
+    if fields_node is not None:
+        for f in sexpr.children(fields_node, "field"):
+            name = sexpr.value(f, "name")
+            text = next((x for x in f[1:] if isinstance(x, str)), "")
+            fields.append((name, text))
+    props = {}
+    for p in sexpr.children(c, "property"):
+        props[sexpr.value(p, "name")] = sexpr.value(p, "value")
+    libsource = sexpr.child(c, "libsource") or ["libsource"]
+    lib, lib_part = sexpr.value(libsource, "lib"), sexpr.value(libsource, "part")
+    sheetpath = sexpr.child(c, "sheetpath") or ["sheetpath"]
+    sheet_path = sexpr.value(sheetpath, "names", "/")
+    sheet_file = props.get("Sheetfile") or sheet_files.get(sheet_path, "")
+    return Part(
+        ref=sexpr.value(c, "ref"), value=sexpr.value(c, "value"),
+        footprint=sexpr.value(c, "footprint"), lib=lib, lib_part=lib_part,
+        description=sexpr.value(libsource, "description"),
+        fields=tuple(fields), dnp="dnp" in props, exclude_from_bom="exclude_from_bom" in props,
+        sheet_path=sheet_path, sheet_file=sheet_file,
+        pins=libpins.get((lib, lib_part), ()),
+    )

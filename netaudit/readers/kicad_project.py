@@ -1,0 +1,79 @@
+"""KiCad projects and schematics (``.kicad_pro``, root ``.kicad_sch``, a folder).
+
+The netlist is exported with KiCad's own ``kicad-cli`` into a temporary folder and read
+with the netlist reader. The design files are only read.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import hashlib
+import shutil
+import subprocess
+import tempfile
+from pathlib import Path
+
+from ..errors import InputError
+from ..model import Design
+from . import kicad_netlist
+from .common import decode_text, read_bytes
+
+FORMAT = "kicad-project"
+EXPORT_HINT = ("install KiCad 7 or newer (for kicad-cli), or export a netlist from the schematic "
+               "editor (File > Export > Netlist, KiCad format) and pass the .net file")
+
+
+def root_schematic(path: Path) -> Path:
+    """The root schematic of a project file, schematic or folder."""
+    if path.is_dir():
+        projects = sorted(path.glob("*.kicad_pro"))
+        if not projects:
+            raise InputError("folder holds no KiCad project (.kicad_pro)", str(path))
+        if len(projects) > 1:
+            names = ", ".join(p.name for p in projects)
+            raise InputError(f"folder holds several projects ({names}); name one", str(path))
+        path = projects[0]
+    if path.suffix == ".kicad_pro":
+        sch = path.with_suffix(".kicad_sch")
+        if not sch.is_file():
+            raise InputError(f"project has no root schematic {sch.name} beside it", str(path))
+        return sch
+    return path
+
+
+def kicad_cli() -> str | None:
+    return shutil.which("kicad-cli")
+
+
+def project_digest(sch: Path) -> str:
+    """SHA-256 over every schematic in the project folder (name and content, sorted)."""
+    h = hashlib.sha256()
+    for f in sorted(sch.parent.glob("*.kicad_sch")):
+        h.update(f.name.encode() + b"\0" + hashlib.sha256(read_bytes(f)).digest())
+    return h.hexdigest()
+
+
+def read(path: Path, timeout_s: float = 300.0) -> Design:
+    sch = root_schematic(path)
+    if not sch.is_file():
+        raise InputError("no such schematic", str(sch))
+    cli = kicad_cli()
+    if cli is None:
+        raise InputError(f"reading a schematic needs kicad-cli, which is not installed: {EXPORT_HINT}",
+                         str(path))
+    with tempfile.TemporaryDirectory(prefix="netaudit-") as tmp:
+        out = Path(tmp) / "export.net"
+        try:
+            proc = subprocess.run(
+                [cli, "sch", "export", "netlist", "--format", "kicadsexpr", "-o", str(out), str(sch)],
+                capture_output=True, text=True, timeout=timeout_s, check=False)
+        except subprocess.TimeoutExpired:
+            raise InputError(f"kicad-cli took longer than {timeout_s:.0f} s to export the netlist",
+                             str(sch)) from None
+        if proc.returncode != 0 or not out.is_file():
+            detail = (proc.stderr or proc.stdout or "").strip().splitlines()
+            why = detail[-1] if detail else f"exit code {proc.returncode}"
+            raise InputError(f"kicad-cli could not export the netlist ({why})", str(sch))
+        data = read_bytes(out)
+        design = kicad_netlist.read(decode_text(data, out), out, "")
+    return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch))
