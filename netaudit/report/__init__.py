@@ -1,0 +1,1 @@
+"""Reporters: each formats an Audit; none computes anything."""

@@ -1,0 +1,38 @@
+"""Writing reports: atomically (temp file + rename), or to standard output for ``-``."""
+
+from __future__ import annotations
+
+import os
+import sys
+import tempfile
+from pathlib import Path
+
+from ..errors import InputError
+
+
+def write_output(target: str, text: str) -> None:
+    if target == "-":
+        sys.stdout.write(text)
+        sys.stdout.flush()
+        return
+    write_atomic(Path(target), text)
+
+
+def write_atomic(path: Path, text: str) -> None:
+    """Write ``text`` to ``path`` so readers see the old file or the whole new one."""
+    folder = path.parent if str(path.parent) else Path(".")
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise InputError(f"cannot write report: {exc.strerror or exc}", str(path)) from None
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
+            fh.write(text)
+        os.replace(tmp, path)
+    except OSError as exc:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise InputError(f"cannot write report: {exc.strerror or exc}", str(path)) from None
