@@ -1,0 +1,1 @@
+"""Topology: rails, bus lines, buses and segments worked out from a Design."""

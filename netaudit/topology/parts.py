@@ -1,0 +1,37 @@
+"""What kind of part sits on a bus line: device, connector, or something to look past.
+
+Facts of the trade (common practice, no source): reference prefixes and library names
+say resistors, capacitors, inductors, test points and connectors; a part whose pins on
+the line are all of electrical type "passive" and which is not a connector is
+protection or filtering (ESD arrays, TVS diodes), not a bus device.
+"""
+
+from __future__ import annotations
+
+import re
+
+from ..model import Part
+
+_PASSIVE_REF = re.compile(r"^(?:R|RN|RA|C|L|FB|TP|D|F|JP|SJ|MH|H|FID)\d", re.IGNORECASE)
+_TESTPOINT = re.compile(r"TestPoint|Test_Point|^TP", re.IGNORECASE)
+_CONNECTOR_REF = re.compile(r"^(?:J|P|X|CN|CON|XS|XP)\d", re.IGNORECASE)
+_FET_REF = re.compile(r"^(?:Q|T|M)\d", re.IGNORECASE)
+
+
+def is_connector(part: Part) -> bool:
+    return bool(_CONNECTOR_REF.match(part.ref) or part.lib.lower().startswith("connector")
+                and not _TESTPOINT.search(part.lib_part))
+
+
+def is_test_point(part: Part) -> bool:
+    return bool(part.ref.upper().startswith("TP") or _TESTPOINT.search(part.lib_part))
+
+
+def is_fet(part: Part) -> bool:
+    names = {p.name.upper() for p in part.pins}
+    return bool(_FET_REF.match(part.ref) and {"G", "S", "D"} <= names)
+
+
+def looks_passive(part: Part) -> bool:
+    """Resistor, capacitor, inductor, diode, fuse, jumper, test point, mounting hole."""
+    return bool(_PASSIVE_REF.match(part.ref)) or is_test_point(part)
