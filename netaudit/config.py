@@ -107,7 +107,8 @@ class BusConfig:
     mode: str | None = None  # None: the defaults' mode
     offboard_pullup: OffboardPullup | None = None
     extra_capacitance_f: float = 0.0
-    line: int | None = field(default=None, compare=False)
+    line: int | None = field(default=None, compare=False)     # where it is written,
+    source: str | None = field(default=None, compare=False)   # for errors found later
 
 
 @dataclass(frozen=True)
@@ -151,7 +152,8 @@ class PartRule:
     max_mode: str | None = None
     tolerant_volts: float | None = None
     pin_capacitance_f: float | None = None
-    line: int | None = field(default=None, compare=False)
+    line: int | None = field(default=None, compare=False)     # where it is written,
+    source: str | None = field(default=None, compare=False)   # for errors found later
 
 
 @dataclass(frozen=True)
@@ -161,7 +163,8 @@ class Waiver:
     refs: tuple[str, ...] = ()
     nets: tuple[str, ...] = ()
     bus: str | None = None
-    line: int | None = field(default=None, compare=False)
+    line: int | None = field(default=None, compare=False)     # where it is written,
+    source: str | None = field(default=None, compare=False)   # for errors found later
 
 
 @dataclass(frozen=True)
@@ -461,7 +464,7 @@ class _Reader:
                 extra_capacitance_f=self.number(m["extra_capacitance_pf"][1],
                                                 f"{kp}.extra_capacitance_pf") * PF
                 if "extra_capacitance_pf" in m else 0.0,
-                line=item.start_mark.line + 1))
+                line=item.start_mark.line + 1, source=self.path))
         return tuple(out)
 
     def offboard(self, node, kp) -> OffboardPullup:
@@ -527,7 +530,7 @@ class _Reader:
             pin_capacitance_f=self.number(get("pin_capacitance_pf"),
                                           f"{kp}.pin_capacitance_pf") * PF
             if get("pin_capacitance_pf") else None,
-            line=node.start_mark.line + 1)
+            line=node.start_mark.line + 1, source=self.path)
 
     def address(self, node, kp) -> Address:
         if not isinstance(node, yaml.MappingNode):
@@ -587,7 +590,7 @@ class _Reader:
         return Waiver(rule=rule, reason=reason.strip(), refs=pick("refs"), nets=pick("nets"),
                       bus=self.text(m["bus"][1], f"{kp}.bus", "a bus name")
                       if "bus" in m else None,
-                      line=node.start_mark.line + 1)
+                      line=node.start_mark.line + 1, source=self.path)
 
 
 # ---------------------------------------------------------------- starter file

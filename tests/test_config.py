@@ -86,7 +86,7 @@ def test_contract_example_parses_to_typed_si_values():
                                    mode="standard",
                                    offboard_pullup=OffboardPullup(ohms=2200.0, rail="+3V3"),
                                    extra_capacitance_f=pytest.approx(60e-12)),)
-    assert cfg.buses[0].line == 9
+    assert (cfg.buses[0].line, cfg.buses[0].source) == (9, "netaudit.yaml")
     assert cfg.traces["/SENS_SDA"] == TraceConfig(length_m=pytest.approx(0.120))
     assert cfg.traces["/SENS_SCL"] == TraceConfig(capacitance_f=pytest.approx(14e-12))
     lux, eeprom, u9 = cfg.parts
