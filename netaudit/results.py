@@ -147,15 +147,10 @@ class Bus:
 
 @dataclass(frozen=True)
 class Finding:
-    """One problem found by one rule, as data; reporters phrase it.
-
-    ``message`` is a short plain sentence built from ``data`` by the check itself so
-    every reporter can show the same words; reporters may phrase richer views from data.
-    """
+    """One problem found by one rule, as data; reporters phrase it (report/messages.py)."""
 
     rule: str
     severity: Severity
-    message: str
     bus: str | None = None
     segment: str | None = None
     line: str | None = None
@@ -167,7 +162,7 @@ class Finding:
 
     def sort_key(self) -> tuple:
         return (-self.severity.rank, self.rule, self.bus or "", self.segment or "",
-                self.line or "", self.refs, self.nets, self.message)
+                self.line or "", self.refs, self.nets)
 
 
 @dataclass(frozen=True)

@@ -6,9 +6,9 @@ from netaudit.config import Waiver, parse_config
 from netaudit.results import Finding, Severity
 from netaudit.waivers import apply_waivers, unused_waivers, waiver_matches
 
-PARALLEL = Finding(rule="pullup-parallel", severity=Severity.WARNING, message="two pull-ups",
+PARALLEL = Finding(rule="pullup-parallel", severity=Severity.WARNING,
                    bus="I2C_MAIN", line="sda", refs=("R12", "R13", "R14"), nets=("/SDA",))
-MISSING = Finding(rule="pullup-missing", severity=Severity.ERROR, message="no pull-up",
+MISSING = Finding(rule="pullup-missing", severity=Severity.ERROR,
                   bus="I2C_AUX", line="scl", nets=("/AUX_SCL", "/AUX_SCL_R"))
 
 
@@ -19,7 +19,7 @@ def waiver(rule="pullup-parallel", reason="accepted", **kw) -> Waiver:
 def test_matching_finding_is_marked_with_the_reason():
     (out,) = apply_waivers([PARALLEL], [waiver(refs=("R12",), reason="daughterboard pair")])
     assert out.waived and out.waiver_reason == "daughterboard pair"
-    assert out.message == PARALLEL.message and out.refs == PARALLEL.refs
+    assert out.data == PARALLEL.data and out.refs == PARALLEL.refs
 
 
 def test_findings_are_never_dropped_or_reordered():
@@ -55,7 +55,7 @@ def test_bus_selector_must_be_equal():
 
 
 def test_bus_selector_does_not_match_a_finding_without_bus():
-    lone = Finding(rule="address-unknown", severity=Severity.INFO, message="?", refs=("U4",))
+    lone = Finding(rule="address-unknown", severity=Severity.INFO, refs=("U4",))
     assert not waiver_matches(waiver(rule="address-unknown", bus="I2C_MAIN"), lone)
 
 

@@ -1,0 +1,45 @@
+"""The one pipeline every front end calls: read, find buses, budget, check, waive."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from .catalog import describe_parts
+from .checks import CheckContext, run_checks
+from .config import Config, find_config, load_config
+from .linebudget import budget_buses
+from .model import Design
+from .readers import read_design
+from .results import Audit
+from .topology.buses import find_buses
+from .topology.rails import find_rails
+from .waivers import apply_waivers
+
+
+def audit(path: str | Path, config: Config | str | Path | None = None, mode: str | None = None) -> Audit:
+    """Audit the design at ``path``. ``config`` is a Config, a netaudit.yaml path, or None
+    to use netaudit.yaml beside the design when there is one."""
+    if config is None:
+        found = find_config(path)
+        config = load_config(found) if found else Config.empty()
+    elif not isinstance(config, Config):
+        config = load_config(config)
+    return audit_design(read_design(path), config, mode)
+
+
+def audit_design(design: Design, config: Config, mode: str | None = None) -> Audit:
+    """Audit a Design already read (the KiCad plugin builds one from the open board)."""
+    default_mode = mode or config.defaults.mode
+    rails = find_rails(design, config.rails)
+    parts = describe_parts(design, config)
+    roles = {ref: info.role for ref, info in parts.items() if info.role}
+    topology = find_buses(design, rails, roles=roles, bus_configs=config.buses,
+                          default_mode=default_mode)
+    buses = budget_buses(design, topology.buses, rails, parts, config)
+    ctx = CheckContext(design, buses, rails, config, topology, parts)
+    findings = apply_waivers(run_checks(ctx), config.waivers)
+    used = {f.rail for b in buses for s in b.segments for line in s.lines for f in line.pullups}
+    rail_list = tuple(sorted((r for r in rails.values() if r.net in used or r.volts is not None),
+                             key=lambda r: r.net))
+    return Audit(design=design, rails=rail_list, buses=buses, findings=tuple(findings),
+                 config_path=config.path, config_sha256=config.sha256, mode=default_mode)

@@ -1,0 +1,54 @@
+"""What netaudit knows about parts: role, addressing, speed, supply pin, tolerance.
+
+Two sources, config first: ``parts:`` rules in netaudit.yaml, then the catalog shipped with
+the package (``catalog/*.yaml``). ``describe_parts`` merges them field by field, so a config
+rule that only sets ``max_mode`` keeps the catalog's address.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields, replace
+from typing import Any
+
+from ..config import Config
+from ..model import Design, Part
+
+
+@dataclass(frozen=True)
+class PartInfo:
+    role: str | None = None
+    address: Any = None               # config.FixedAddress | PinBitsAddress | PinTieAddress
+    io_supply_pin: str | None = None
+    max_mode: str | None = None
+    tolerant_volts: float | None = None
+    pin_capacitance_f: float | None = None
+    sink_current_a: float | None = None
+    source: str = ""                   # "config" or the catalog entry's source note
+
+
+def _merge(base: PartInfo, top: PartInfo) -> PartInfo:
+    changes = {f.name: getattr(top, f.name) for f in fields(PartInfo)
+               if f.name != "source" and getattr(top, f.name) is not None}
+    merged = replace(base, **changes)
+    return replace(merged, source=top.source or base.source)
+
+
+def _catalog_info(part: Part) -> PartInfo | None:
+    try:
+        from .loader import lookup
+    except ImportError:
+        return None
+    return lookup(part)
+
+
+def describe_parts(design: Design, config: Config) -> dict[str, PartInfo]:
+    """PartInfo for every part the config or the catalog knows."""
+    out: dict[str, PartInfo] = {}
+    for part in design.parts:
+        info = _catalog_info(part) or PartInfo()
+        for r in config.part_rules_for(part.ref, part.value, part.lib, part.lib_part):
+            info = _merge(info, PartInfo(r.role, r.address, r.io_supply_pin, r.max_mode,
+                                         r.tolerant_volts, r.pin_capacitance_f, None, "config"))
+        if info != PartInfo():
+            out[part.ref] = info
+    return out
