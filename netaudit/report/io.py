@@ -36,3 +36,14 @@ def write_atomic(path: Path, text: str) -> None:
         except OSError:
             pass
         raise InputError(f"cannot write report: {exc.strerror or exc}", str(path)) from None
+
+
+def write_new(path: Path, text: str) -> None:
+    """Write a file that must not exist yet; never overwrite."""
+    try:
+        with open(path, "x", encoding="utf-8", newline="\n") as fh:
+            fh.write(text)
+    except FileExistsError:
+        raise InputError("already exists; not overwritten", str(path)) from None
+    except OSError as exc:
+        raise InputError(f"cannot write: {exc.strerror or exc}", str(path)) from None

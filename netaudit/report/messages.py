@@ -1,0 +1,81 @@
+"""Plain-English sentences for findings, built from each finding's data.
+
+The one place findings become words; every reporter uses it so the terminal, JSON,
+HTML and SARIF say the same thing.
+"""
+
+from __future__ import annotations
+
+from typing import Callable
+
+from ..results import Finding
+from ..units import format_si
+
+_LINE = {"sda": "SDA", "scl": "SCL", None: "bus"}
+
+
+def _ohms(v) -> str:
+    return "unknown" if v is None else format_si(v, "Ω")
+
+
+def _where(f: Finding) -> str:
+    if f.segment and f.line:
+        return f"{_LINE[f.line]} of {f.segment}"
+    if f.segment:
+        return f.segment
+    return ", ".join(f.nets[:3]) or "the design"
+
+
+def _refs(f: Finding) -> str:
+    return ", ".join(f.refs)
+
+
+_PHRASES: dict[str, Callable[[Finding], str]] = {
+    "bus-line-unpaired": lambda f: f"{_LINE[f.line]} line {', '.join(f.nets)} has no "
+                                   f"{'SCL' if f.line == 'sda' else 'SDA'} partner",
+    "bus-lines-swapped": lambda f: f"{_refs(f)} pin {f.data['pin']} ({f.data['pin_function']}) is on the "
+                                   f"{_LINE[f.data['on_line']]} line of {f.segment}",
+    "bus-pin-unconnected": lambda f: f"{_refs(f)} pin {f.data['pin']} ({f.data['pin_function']}) is not connected",
+    "bus-lone-device": lambda f: f"{_refs(f)} is the only device on {f.segment}",
+    "pullup-missing": lambda f: f"no fitted pull-up on {_where(f)}"
+                                + (f" (not fitted: {', '.join(f.data['not_fitted'])})" if f.data.get("not_fitted") else ""),
+    "pullup-duplicated": lambda f: f"{_refs(f)} on {_where(f)} are one pull-up repeated by {len(f.data['sheet_paths'])} "
+                                   f"instances of {f.data['sheet_file']} (together {_ohms(f.data['equivalent_ohms'])})",
+    "pullup-parallel": lambda f: f"{len(f.data['pullups'])} pull-ups in parallel on {_where(f)}: "
+                                 f"{', '.join(sorted(f.data['pullups']))}, together {_ohms(f.data['equivalent_ohms'])}",
+    "pullup-rail-mismatch": lambda f: f"pull-ups of {f.segment} go to different rails: {', '.join(f.data['rails'])}",
+    "pullup-to-signal": lambda f: f"pull-up {_refs(f)} on {_where(f)} goes to {f.data['target_net']}, not a supply rail",
+    "pullup-too-strong": lambda f: f"pull-up on {_where(f)} is {_ohms(f.data['rp_ohms'])}, below Rp(min) "
+                                   f"{_ohms(f.data['rp_min_ohms'])}"
+                                   + (f"; try {_ohms(f.data['pick_ohms'])}" if f.data.get("pick_ohms") else ""),
+    "pullup-too-weak": lambda f: (f"rise time on {_where(f)} is {format_si(f.data['rise_time_s'], 's')}, over the "
+                                  f"{format_si(f.data['rise_time_max_s'], 's')} limit"
+                                  if f.data.get("rise_time_s") is not None else
+                                  f"{_where(f)} never reaches a valid HIGH level")
+                                 + (f"; try {_ohms(f.data['pick_ohms'])}" if f.data.get("pick_ohms") else ""),
+    "capacitance-over-limit": lambda f: f"{_where(f)} carries about {format_si(f.data['capacitance_farads'], 'F')}, "
+                                        f"over the {format_si(f.data['capacitance_max_farads'], 'F')} limit",
+    "low-level-margin": lambda f: f"series {_refs(f)} ({_ohms(f.data['series_ohms'])}) lifts LOW to "
+                                  f"{f.data['low_level_v']:.2f} V on {_where(f)}, above {f.data['limit_v']:.2f} V",
+}
+
+
+def phrase(f: Finding) -> str:
+    """One sentence for a finding. Rules without a phrase fall back to a generic one."""
+    make = _PHRASES.get(f.rule)
+    if make is not None:
+        try:
+            return make(f)
+        except (KeyError, TypeError):
+            pass
+    parts = [f.rule.replace("-", " ")]
+    if f.refs:
+        parts.append(_refs(f))
+    if f.segment or f.nets:
+        parts.append(f"on {_where(f)}")
+    return " ".join(parts)
+
+
+def register(rule_id: str, make: Callable[[Finding], str]) -> None:
+    """Let a rule module add its own phrase."""
+    _PHRASES[rule_id] = make

@@ -1,0 +1,147 @@
+"""The terminal report: grouped by bus and segment, readable without colour."""
+
+from __future__ import annotations
+
+import os
+from typing import Callable
+
+from .. import __version__
+from ..results import Audit, Finding, Line, Segment, Severity
+from ..units import format_si
+from .json import CAUTION
+from .messages import phrase
+
+_COLOURS = {Severity.ERROR: "red", Severity.WARNING: "yellow", Severity.INFO: "cyan"}
+
+
+def _plain(text: str, **_style) -> str:
+    return text
+
+
+def _fmt(v, unit: str) -> str:
+    return "?" if v is None else format_si(v, unit)
+
+
+def _line_row(line: Line) -> str:
+    name = "SDA" if line.signal == "sda" else "SCL"
+    nets = ", ".join(line.nets)
+    pulls = []
+    for p in line.pullups:
+        tag = "" if p.fitted else " (not fitted)"
+        pulls.append(f"{p.ref} {_fmt(p.ohms, 'Ω')} to {p.rail}{tag}")
+    row = f"    {name}  {nets}\n      pull-ups: {'; '.join(pulls) or 'none'}"
+    b = line.budget
+    if b is not None and b.capacitance_farads is not None:
+        row += f"\n      Cb {_fmt(b.capacitance_farads, 'F')}"
+        if b.rp_ohms is not None:
+            row += (f", Rp {_fmt(b.rp_ohms, 'Ω')} (window {_fmt(b.rp_min_ohms, 'Ω')} to {_fmt(b.rp_max_ohms, 'Ω')})"
+                    f", rise {_fmt(b.rise_time_s, 's')} of {_fmt(b.rise_time_max_s, 's')} allowed")
+        for note in b.notes:
+            row += f"\n      note: {note}"
+    return row
+
+
+def _segment_head(seg: Segment) -> str:
+    head = f"  segment {seg.id}"
+    if seg.upstream is not None:
+        via = f"{seg.upstream.kind} {seg.upstream.ref}"
+        if seg.upstream.channel is not None:
+            via += f" channel {seg.upstream.channel}"
+        head += f"  (behind {via})"
+    return head
+
+
+def _device_row(seg: Segment) -> str:
+    items = []
+    for d in seg.devices:
+        extra = [d.role]
+        if d.address is not None:
+            extra.append(f"0x{d.address:02X}")
+        if d.io_rail:
+            extra.append(d.io_rail)
+        items.append(f"{d.ref} {d.value} ({', '.join(extra)})")
+    return "    devices: " + ("; ".join(items) or "none")
+
+
+def render(audit: Audit, colour: bool = False) -> str:
+    style: Callable[..., str]
+    if colour:
+        import click
+        style = click.style
+    else:
+        style = _plain
+
+    def flag(f: Finding) -> str:
+        word = f"{f.severity.value}:"
+        return f"{style(word, fg=_COLOURS[f.severity], bold=True)} {phrase(f)}  [{f.rule}]"
+
+    d = audit.design
+    c = audit.counts()
+    out = [f"netaudit {__version__}: {os.path.basename(d.path.rstrip('/'))} ({d.format}"
+           + (f", KiCad {d.kicad_version}" if d.kicad_version else "") + ")"
+           + (f" \"{d.title}\"" if d.title else "") + (f" rev {d.revision}" if d.revision else "")]
+    out.append(f"mode {audit.mode}; {c['buses']} buses, {c['segments']} segments; "
+               f"{c['errors']} errors, {c['warnings']} warnings, {c['infos']} info, {c['waived']} waived")
+    live = [f for f in audit.findings if not f.waived]
+    for bus in audit.buses:
+        out.append("")
+        out.append(style(f"{bus.name}", bold=True) + f"  ({bus.mode}, found by {bus.evidence})")
+        for seg in bus.segments:
+            out.append(_segment_head(seg))
+            out.append(_device_row(seg))
+            for line in seg.lines:
+                out.append(_line_row(line))
+            for f in live:
+                if f.bus == bus.name and f.segment == seg.id:
+                    out.append("    " + flag(f))
+        for f in live:
+            if f.bus == bus.name and f.segment is None:
+                out.append("  " + flag(f))
+    loose = [f for f in live if f.bus is None]
+    if loose:
+        out.append("")
+        out.append("Not on a bus:")
+        out.extend("  " + flag(f) for f in loose)
+    waived = [f for f in audit.findings if f.waived]
+    if waived:
+        out.append("")
+        out.append("Waived:")
+        out.extend(f"  {f.severity.value}: {phrase(f)}  [{f.rule}] (reason: {f.waiver_reason})" for f in waived)
+    out.append("")
+    out.append(CAUTION)
+    return "\n".join(out) + "\n"
+
+
+def render_inventory(audit: Audit) -> str:
+    """Buses, segments, devices and lines, without findings."""
+    out = []
+    for bus in audit.buses:
+        out.append(f"{bus.name}  ({bus.mode}, found by {bus.evidence})")
+        for seg in bus.segments:
+            out.append(_segment_head(seg))
+            out.append(_device_row(seg))
+            out.extend(_line_row(line) for line in seg.lines)
+    if not out:
+        out.append("no I2C or SMBus buses found")
+    return "\n".join(out) + "\n"
+
+
+def render_window(w) -> str:
+    """The ``netaudit pullup`` answer for one line."""
+    lines = [
+        f"mode {w.mode}, VDD {_fmt(w.vdd, 'V')}, Cb {_fmt(w.cb_f, 'F')}, "
+        f"VOL {_fmt(w.vol_max_v, 'V')} at {_fmt(w.iol_a, 'A')}, rise time max {_fmt(w.rise_time_max_s, 's')}",
+        f"Rp(min) = (VDD - VOL) / IOL          = {_fmt(w.rp_min, 'Ω')}",
+        f"Rp(max) = tr / (0.8473 * Cb)         = {_fmt(w.rp_max, 'Ω')}",
+    ]
+    if not w.feasible:
+        lines.append("no resistor fits: Rp(min) is above Rp(max). Cut capacitance, lower the mode, "
+                     "or use a buffer or current-source pull-up (UM10204 section 7.2).")
+    else:
+        lines.append("E12 values that fit: " + (", ".join(format_si(v, "Ω") for v in w.suggestions_e12) or "none"))
+        lines.append("E24 values that fit: " + (", ".join(format_si(v, "Ω") for v in w.suggestions) or "none"))
+        if w.pick is not None:
+            lines.append(f"pick: {format_si(w.pick, 'Ω')} (rise time {format_si(w.pick_rise_time_s, 's')}); "
+                         "the largest E12 value keeping 20 % rise-time headroom, to limit supply current")
+    lines.append("UM10204 Rev. 6 section 7.1, Eq. (1) and (2). netaudit flags risks; confirm with the datasheets.")
+    return "\n".join(lines) + "\n"
