@@ -31,6 +31,11 @@ Prefix letters (case matters where the trade's habits collide):
 * capacitance: ``p``/``P`` pico, ``n``/``N`` nano, ``u``/``U``/``µ`` micro, ``m`` milli.
   ``M`` is refused (old US drawings write ``MF`` for microfarad) and so are ``k``/``K``.
 
+Other units (``"A"``, ``"V"``, ``"s"``, ``"Hz"``, for command-line options and config
+values) take a decimal number, an optional SI prefix (``f p n u µ m k M G``, case as SI
+writes them) and an optional unit symbol: ``3m``, ``3 mA``, ``350u``, ``2.5V``, ``400k``.
+Nothing may follow.
+
 Whatever cannot be read with confidence gives ``None``: netaudit never guesses a value.
 """
 
@@ -161,8 +166,24 @@ def _parse_farads(text: str) -> float | None:
     return None
 
 
+_GENERIC_PREFIX = {"f": -15, "p": -12, "n": -9, "u": -6, "m": -3, "": 0, "k": 3, "M": 6,
+                   "G": 9}
+_GENERIC = re.compile(_NUMBER + r"(?:\s*(?P<prefix>[fpnumkMG]))?(?:\s*(?P<unit>[A-Za-z]+))?")
+GENERIC_UNITS = ("A", "V", "s", "Hz")
+
+
+def _parse_generic(text: str, unit: str) -> float | None:
+    m = _GENERIC.fullmatch(text)
+    if not m:
+        return None
+    if m["unit"] is not None and m["unit"].lower() != unit.lower():
+        return None
+    return _scaled(m["num"], _GENERIC_PREFIX[m["prefix"] or ""])
+
+
 def parse_value(text: str, unit: str) -> float | None:
-    """Read a resistance (``unit="ohm"``) or capacitance (``unit="F"``) from schematic text.
+    """Read a resistance (``unit="ohm"``) or capacitance (``unit="F"``) from schematic text,
+    or a current, voltage, time or frequency (``"A"``, ``"V"``, ``"s"``, ``"Hz"``).
 
     Returns the value in ohms or farads, or ``None`` when the text cannot be read with
     confidence (``"DNP"``, ``"NC"``, ``""``, ``"R_2k2_0402"``, ``"abc"``, ``"100"`` on a
@@ -170,14 +191,19 @@ def parse_value(text: str, unit: str) -> float | None:
 
     References: IEC 60062 (letter and digit code for resistance and capacitance values).
     """
-    if unit not in (OHM, FARAD):
-        raise ValueError(f"unit must be {OHM!r} or {FARAD!r}, not {unit!r}")
+    if unit not in (OHM, FARAD) + GENERIC_UNITS:
+        raise ValueError(f"unit must be one of {(OHM, FARAD) + GENERIC_UNITS}, not {unit!r}")
     if not isinstance(text, str):
         return None
     text = _normalise(text)
     if not text:
         return None
-    value = _parse_ohms(text) if unit == OHM else _parse_farads(text)
+    if unit == OHM:
+        value = _parse_ohms(text)
+    elif unit == FARAD:
+        value = _parse_farads(text)
+    else:
+        value = _parse_generic(text, unit)
     if value is None or not math.isfinite(value):
         return None
     return value

@@ -95,6 +95,19 @@ def test_unreadable_or_ambiguous_capacitance_text_gives_none(text):
     assert parse_value(text, "F") is None
 
 
+@pytest.mark.parametrize("text, unit, value", [
+    ("3m", "A", 3e-3), ("3 mA", "A", 3e-3), ("350u", "A", 350e-6), ("350µA", "A", 350e-6),
+    ("2.5V", "V", 2.5), ("400kHz", "Hz", 400e3), ("300ns", "s", 300e-9), ("3", "A", 3.0),
+])
+def test_other_units_take_si_prefixes(text, unit, value):
+    assert close(parse_value(text, unit), value)
+
+
+@pytest.mark.parametrize("text, unit", [("3mV", "A"), ("abc", "A"), ("3m 1%", "A"), ("", "V")])
+def test_other_units_refuse_wrong_symbols_and_trailing_text(text, unit):
+    assert parse_value(text, unit) is None
+
+
 def test_unknown_unit_is_an_error():
     with pytest.raises(ValueError):
         parse_value("4k7", "H")
