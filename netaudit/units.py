@@ -95,6 +95,9 @@ def _normalise(text: str) -> str:
         text = text.replace(micro, "u")
     for omega in ("\u2126", "\u03a9"):          # ohm sign, Greek capital omega
         text = text.replace(omega, "ohm")
+    # A decimal comma between digits, as European schematics write values: "2,2K", "4,7n"
+    # (common practice, no source). Commas elsewhere still separate annotations.
+    text = re.sub(r"(?<=\d),(?=\d)", ".", text, count=1)
     return text.replace("+/-", "±").replace("+-", "±")
 
 

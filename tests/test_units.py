@@ -261,3 +261,10 @@ def test_round_up_and_down_keep_exact_series_values():
 def test_round_up_crosses_a_decade():
     assert round_up(8300.0, "E12") == 10000.0
     assert round_down(999.0, "E12") == 820.0
+
+
+def test_decimal_comma_reads_as_a_decimal_point():
+    # KiCad's own demo "video" writes its EEPROM pull-ups as "2,2K" (common practice in
+    # European schematics, no source).
+    assert parse_value("2,2K", "ohm") == pytest.approx(2200.0)
+    assert parse_value("4,7nF", "F") == pytest.approx(4.7e-9)
