@@ -49,7 +49,8 @@ def bus_pin_unconnected(ctx: CheckContext):
 
     What: a pin named plainly SDA or SCL on a part that is not a connector, left on no
     net or alone on its net. Unused multiplexer channels and numbered controller ports
-    (``I2C1_SDA``) are left out: leaving those open is normal.
+    (``I2C1_SDA``) and multi-function port pins (``PB7/SDA``) are left out: leaving
+    those open is normal.
     Why: the device cannot be reached, and an open input can pick up noise.
     Fix: connect the pin to its bus, or, if the device is meant to be unused, tie or
     terminate the pin as its datasheet says.
@@ -58,8 +59,8 @@ def bus_pin_unconnected(ctx: CheckContext):
     mux_refs = {d.ref for _b, s in ctx.segments() for d in s.devices if d.role == "mux"}
     for u in ctx.topology.unconnected:
         sig = pin_signal(u.function)
-        if u.ref in mux_refs or sig is None or sig.channel or sig.key:
-            continue
+        if u.ref in mux_refs or sig is None or not sig.dedicated or sig.channel or sig.key:
+            continue  # open mux channels, numbered ports and multi-function pins are normal
         yield finding("bus-pin-unconnected", refs=[u.ref], line=u.signal, pin=u.pin, pin_function=u.function)
 
 
