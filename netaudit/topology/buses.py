@@ -267,8 +267,11 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
         part = design.part(ref)
         if len(segs) < 2 or part is None or is_connector(part) or looks_passive(part):
             continue
+        role = roles.get(ref)
+        if role in ("controller", "target") or (role is None and len(part.pins) >= CONTROLLER_MIN_PINS):
+            continue  # a processor with several bus ports sits on several buses; it splits none
         channel_of = {s: sig.channel for s, sig in hits if sig.channel is not None}
-        if not channel_of and (len(segs) >= 3 or roles.get(ref) == "mux"):
+        if not channel_of and (len(segs) >= 3 or role == "mux"):
             # SDA/SCL upstream with SDA0/SCL0, SDA1/SCL1 ... downstream: a multiplexer.
             channel_of = {s: sig.key for s, sig in hits if sig.key}
             ups = [s for s, sig in hits if not sig.key]
@@ -394,16 +397,24 @@ def supply_rail_of(conn: Connectivity, net: str) -> Rail | None:
 
 
 def _pick_root(design: Design, conn: Connectivity, keys: set[str], accepted: dict[str, str]) -> str:
-    """The segment whose biggest part (the controller, usually) has the most pins."""
+    """The segment the controller sits on: the one with a processor-sized part, else the one
+    with the largest connector (a module socket or host connector), else the largest part."""
     def score(key: str) -> tuple:
-        best = 0
+        big = con = other = 0
         for ln in (key, accepted[key]):
             for net in conn.line_nets(ln):
                 for node in design.net(net).nodes:
                     part = design.part(node.ref)
-                    if part is not None and not looks_passive(part):
-                        best = max(best, len(part.pins) - (1000 if is_connector(part) else 0))
-        return (best, -len(key), key)
+                    if part is None or looks_passive(part):
+                        continue
+                    n = len(part.pins)
+                    if is_connector(part):
+                        con = max(con, n)
+                    elif n >= CONTROLLER_MIN_PINS:
+                        big = max(big, n)
+                    else:
+                        other = max(other, n)
+        return (big, con, other, -len(key), key)
     return max(sorted(keys), key=score)
 
 
@@ -464,6 +475,8 @@ def _segment(design, conn, sid, sda_ln, scl_ln, upstream, roles, splitters, edge
                 part = design.part(node.ref)
                 if part is None or looks_passive(part):
                     continue
+                if not part.fitted and not (is_connector(part) and not part.dnp):
+                    continue  # not on the board (a connector left off the BOM, like an edge connector, is)
                 if node.pin_type == "passive" and not is_connector(part) and node.ref not in split_kind \
                         and pin_signal(node.pin_function) is None:
                     continue  # protection or filtering, not a device

@@ -14,7 +14,7 @@ from ..model import Part
 
 _PASSIVE_REF = re.compile(r"^(?:R|RN|RA|C|L|FB|TP|D|F|JP|SJ|MH|H|FID)\d", re.IGNORECASE)
 _TESTPOINT = re.compile(r"TestPoint|Test_Point|^TP", re.IGNORECASE)
-_CONNECTOR_REF = re.compile(r"^(?:J|P|X|CN|CON|XS|XP)\d", re.IGNORECASE)
+_CONNECTOR_REF = re.compile(r"^(?:J|P|X|CN|CON|XS|XP)(?:\d|_)", re.IGNORECASE)
 _FET_REF = re.compile(r"^(?:Q|T|M)\d", re.IGNORECASE)
 
 
