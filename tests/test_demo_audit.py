@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import pytest
 import yaml
 
 from netaudit.audit import audit
@@ -50,3 +51,27 @@ def test_no_trap_is_reported():
 def test_the_demo_config_is_the_one_used():
     assert RESULT.config_path is not None and RESULT.config_path.endswith("netaudit.yaml")
     assert {b.name for b in RESULT.buses} >= {"I2C_MAIN", "SOIL", "ROOF_LINK"}
+
+
+def _one(rule, ref):
+    hits = [f for f in RESULT.findings if f.rule == rule and ref in f.refs]
+    assert len(hits) == 1, (rule, ref, hits)
+    return hits[0]
+
+
+def test_demo_budget_faults_carry_the_right_numbers():
+    # ROOF_LINK, standard mode: R9 10 kΩ to +3V3; Cb = 250 pF declared cable (netaudit.yaml)
+    # + one 10 pF device pin (UM10204 Rev. 6 Table 9, Ci max), no trace data.
+    weak = _one("pullup-too-weak", "R9")
+    assert weak.data["capacitance_farads"] == pytest.approx(260e-12)
+    # Rise time = ln(7/3)·Rp·Cb = 0.8473 × 10 kΩ × 260 pF (UM10204 Rev. 6 §7.1) = 2.203 µs
+    assert weak.data["rise_time_s"] == pytest.approx(0.8473 * 10e3 * 260e-12, rel=1e-4)
+    assert weak.data["rise_time_max_s"] == pytest.approx(1000e-9)   # Standard-mode t_r, Table 10
+    # Rp(max) = 1000 ns / (0.8473 × 260 pF) = 4.539 kΩ (Eq. 1)
+    assert weak.data["rp_max_ohms"] == pytest.approx(1000e-9 / (0.8473 * 260e-12), rel=1e-4)
+    strong = _one("pullup-too-strong", "R405")
+    # Rp(min) = (3.3 V − 0.4 V) / 3 mA = 966.7 Ω (Eq. 2; VOL/IOL from Table 9)
+    assert strong.data["rp_ohms"] == pytest.approx(470.0)
+    assert strong.data["rp_min_ohms"] == pytest.approx(966.667, abs=1e-3)
+    parallel = _one("pullup-parallel", "R3")
+    assert parallel.data["equivalent_ohms"] == pytest.approx(1650.0)  # 3.3 kΩ ∥ 3.3 kΩ
