@@ -36,9 +36,21 @@ def _line_row(line: Line) -> str:
         if b.rp_ohms is not None:
             row += (f", Rp {_fmt(b.rp_ohms, 'Ω')} (window {_fmt(b.rp_min_ohms, 'Ω')} to {_fmt(b.rp_max_ohms, 'Ω')})"
                     f", rise {_fmt(b.rise_time_s, 's')} of {_fmt(b.rise_time_max_s, 's')} allowed")
-        for note in b.notes:
-            row += f"\n      note: {note}"
     return row
+
+
+def _plural(n: int, word: str) -> str:
+    return f"{n} {word}" + ("" if n == 1 else ("es" if word.endswith("s") else "s"))
+
+
+def _notes(seg: Segment) -> list[str]:
+    """Each estimate note once per segment, even when both lines carry it."""
+    seen: list[str] = []
+    for line in seg.lines:
+        for note in (line.budget.notes if line.budget else ()):
+            if note not in seen:
+                seen.append(note)
+    return [f"    note: {n}" for n in seen]
 
 
 def _segment_head(seg: Segment) -> str:
@@ -80,8 +92,9 @@ def render(audit: Audit, colour: bool = False) -> str:
     out = [f"netaudit {__version__}: {os.path.basename(d.path.rstrip('/'))} ({d.format}"
            + (f", KiCad {d.kicad_version}" if d.kicad_version else "") + ")"
            + (f" \"{d.title}\"" if d.title else "") + (f" rev {d.revision}" if d.revision else "")]
-    out.append(f"mode {audit.mode}; {c['buses']} buses, {c['segments']} segments; "
-               f"{c['errors']} errors, {c['warnings']} warnings, {c['infos']} info, {c['waived']} waived")
+    out.append(f"mode {audit.mode}; {_plural(c['buses'], 'bus')}, {_plural(c['segments'], 'segment')}; "
+               f"{_plural(c['errors'], 'error')}, {_plural(c['warnings'], 'warning')}, {c['infos']} info, "
+               f"{c['waived']} waived")
     live = [f for f in audit.findings if not f.waived]
     for bus in audit.buses:
         out.append("")
@@ -91,6 +104,7 @@ def render(audit: Audit, colour: bool = False) -> str:
             out.append(_device_row(seg))
             for line in seg.lines:
                 out.append(_line_row(line))
+            out.extend(_notes(seg))
             for f in live:
                 if f.bus == bus.name and f.segment == seg.id:
                     out.append("    " + flag(f))
@@ -121,6 +135,7 @@ def render_inventory(audit: Audit) -> str:
             out.append(_segment_head(seg))
             out.append(_device_row(seg))
             out.extend(_line_row(line) for line in seg.lines)
+            out.extend(_notes(seg))
     if not out:
         out.append("no I2C or SMBus buses found")
     return "\n".join(out) + "\n"
