@@ -91,7 +91,8 @@ def pullup_parallel(ctx: CheckContext):
                 continue
             files = {p.sheet_file for p in live if not p.offboard}
             paths = {p.sheet_path for p in live if not p.offboard}
-            if not any(p.offboard for p in live) and len(files) == 1 and len(paths) == len(live):
+            if not any(p.offboard for p in live) and len(files) == 1 and "" not in files \
+                    and len(paths) == len(live):
                 continue  # all from one reused sheet: pullup-duplicated says it
             yield finding("pullup-parallel", bus=bus, segment=seg, line=line.signal,
                           refs=[p.ref for p in live if not p.offboard], nets=line.nets,
