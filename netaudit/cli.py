@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import sys
 from pathlib import Path
 
@@ -158,9 +159,12 @@ def pullup(vdd: float, cb: str, mode: str, iol: str | None) -> None:
         iol_a = parse_value(iol, "A")
         if iol_a is None or iol_a <= 0:
             raise InputError(f"--iol: cannot read '{iol}' as a current (try 3m)")
-    if vdd <= 0:
-        raise InputError("--vdd: must be above 0 V")
-    window = pullup_window(vdd, cb_f, get_mode(mode), iol_a=iol_a)
+    if not math.isfinite(vdd) or vdd <= 0:
+        raise InputError(f"--vdd: must be a voltage above 0 V, not {vdd:g}")
+    try:
+        window = pullup_window(vdd, cb_f, get_mode(mode), iol_a=iol_a)
+    except ValueError as exc:  # e.g. a supply not above the mode's V_OL(max)
+        raise InputError(f"--vdd {vdd:g} V: {exc}") from None
     click.echo(render_window(window), nl=False)
 
 
