@@ -27,9 +27,9 @@ def read_design(path: str | Path) -> Design:
         raise InputError("reading boards directly is not supported yet; pass the project "
                          "(.kicad_pro) or an exported netlist (.net)", str(p))
     data = read_bytes(p)
-    if not data.strip():
-        raise InputError("empty file", str(p))
     text = decode_text(data, p)
+    if not text.strip():
+        raise InputError("empty file", str(p), 1, 1)
     digest = sha256(data)
     if kicad_netlist.looks_like(text):
         return kicad_netlist.read(text, p, digest)

@@ -8,15 +8,16 @@ from pathlib import Path
 
 from ..errors import InputError
 
-# KiCad writes some characters of generated net names as brace escapes in S-expression
-# netlists (seen: "{slash}" in KiCad 9.0.8 exports, where the XML export writes "/").
-# The other entries are from memory of KiCad's string escaping; unknown words are left as is.
+# KiCad writes a "/" in a net name as "{slash}" in S-expression netlists (seen in KiCad 9.0.8
+# exports; the XML export of the same design writes "/"). KiCad reads back these brace words
+# anywhere in a string, except right after "$", "~", "^" or "_", where braces are text markup
+# (variables, overbar, superscript, subscript: "~{INT}", "SDA_{1}"). Other words stay as written.
 _KICAD_ESCAPES = {
-    "slash": "/", "backslash": "\\", "lt": "<", "gt": ">", "colon": ":",
-    "dblquote": '"', "quote": "'", "tab": "\t", "return": "\n", "space": " ",
-    "comma": ",", "brace": "{",
+    "dblquote": '"', "quote": "'", "lt": "<", "gt": ">", "backslash": "\\", "slash": "/",
+    "bar": "|", "comma": ",", "colon": ":", "space": " ", "dollar": "$", "tab": "\t",
+    "return": "\n", "brace": "{",
 }
-_ESCAPE_RE = re.compile(r"\{(" + "|".join(_KICAD_ESCAPES) + r")\}")
+_ESCAPE_RE = re.compile(r"(?<![$~^_])\{(" + "|".join(_KICAD_ESCAPES) + r")\}")
 
 
 def unescape_kicad(text: str) -> str:
@@ -26,8 +27,53 @@ def unescape_kicad(text: str) -> str:
     return _ESCAPE_RE.sub(lambda m: _KICAD_ESCAPES[m.group(1)], text)
 
 
+def legacy_overbar(text: str) -> str:
+    """A KiCad 5 name in the overbar notation KiCad 6 and later use: ``~RESET`` -> ``~{RESET}``.
+
+    KiCad 5 toggles the overbar at each ``~`` (``~ST~/OE`` -> ``~{ST}/OE``); a space, ``}`` or
+    ``)`` also ends it, and ``~~`` is a plain tilde. A lone ``~`` (KiCad 5's empty name) and
+    text already in the new notation come back unchanged.
+    """
+    if "~" not in text or text == "~":
+        return text
+    out: list[str] = []
+    over = False
+    i, n = 0, len(text)
+    while i < n:
+        ch = text[i]
+        nxt = text[i + 1] if i + 1 < n else ""
+        if ch == "~":
+            if nxt == "{" or (nxt == "~" and text[i + 2:i + 3] == "{"):
+                return text  # already the new notation
+            if nxt == "~":
+                out.append("~")
+                i += 2
+                continue
+            out.append("}" if over else "~{")
+            over = not over
+            i += 1
+            continue
+        if over and ch in " })":
+            out.append("}")
+            over = False
+        out.append(ch)
+        i += 1
+    if over:
+        out.append("}")
+    return "".join(out)
+
+
+def pin_name(name: str, legacy: bool) -> str:
+    """A pin name as the model keeps it: KiCad 5's ``~`` (no name) becomes ``""``."""
+    if name == "~":
+        return ""
+    return legacy_overbar(name) if legacy else name
+
+
 def read_bytes(path: Path) -> bytes:
     try:
+        if path.exists() and not path.is_dir() and not path.is_file():
+            raise InputError("not a regular file", str(path))
         return path.read_bytes()
     except FileNotFoundError:
         raise InputError("no such file", str(path)) from None
@@ -42,6 +88,8 @@ def decode_text(data: bytes, path: Path) -> str:
 
     Binary data (NUL bytes) is refused with the offset of the first one.
     """
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise InputError("UTF-16 text; KiCad writes UTF-8: save the file as UTF-8", str(path), 1, 1)
     nul = data.find(b"\x00")
     if nul != -1:
         line = data.count(b"\n", 0, nul) + 1

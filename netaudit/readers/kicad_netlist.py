@@ -1,4 +1,11 @@
-"""KiCad S-expression netlists (``.net``): version "E" (KiCad 6-9) and "D" (KiCad 5)."""
+"""KiCad S-expression netlists (``.net``): version "E" (KiCad 6-9) and "D" (KiCad 5).
+
+KiCad 5 files (version "D" and older) differ in ways the reader smooths over, so both give
+the same model: nodes carry no pin function (taken from the library part's pins); a pin
+with no name is written ``~`` (read as ``""``); overbars are toggled by ``~`` (``~RESET``,
+converted to KiCad 6's ``~{RESET}`` in pin and net names); a library part may list aliases,
+and a component placed through an alias names the alias, not the part.
+"""
 
 from __future__ import annotations
 
@@ -7,7 +14,7 @@ from pathlib import Path
 from ..errors import InputError
 from ..model import Design, Net, Node, Part, Pin, Sheet
 from . import sexpr
-from .common import complete_nodes, unescape_kicad
+from .common import complete_nodes, legacy_overbar, pin_name, unescape_kicad
 
 FORMAT = "kicad-netlist"
 
@@ -25,17 +32,26 @@ def read(text: str, path: Path, digest: str) -> Design:
     sheets = tuple(_sheet(s) for s in sexpr.children(design, "sheet"))
     root = sheets[0] if sheets else Sheet("/")
 
+    legacy = is_legacy(sexpr.value(tree, "version"))
+
     libpins: dict[tuple[str, str], tuple[Pin, ...]] = {}
     libparts = sexpr.child(tree, "libparts")
     if libparts is not None:
         for lp in sexpr.children(libparts, "libpart"):
-            key = (sexpr.value(lp, "lib"), sexpr.value(lp, "part"))
+            lib = sexpr.value(lp, "lib")
             pins_node = sexpr.child(lp, "pins")
-            pins = ()
+            pins: tuple[Pin, ...] = ()
             if pins_node is not None:
-                pins = tuple(Pin(sexpr.value(p, "num"), sexpr.value(p, "name"), sexpr.value(p, "type"))
+                pins = tuple(Pin(sexpr.value(p, "num"), pin_name(sexpr.value(p, "name"), legacy),
+                                 sexpr.value(p, "type"))
                              for p in sexpr.children(pins_node, "pin"))
-            libpins[key] = pins
+            names = [sexpr.value(lp, "part")]
+            aliases = sexpr.child(lp, "aliases")
+            if aliases is not None:
+                names += [a[1] for a in sexpr.children(aliases, "alias")
+                          if len(a) > 1 and isinstance(a[1], str)]
+            for name in names:
+                libpins.setdefault((lib, name), pins)
 
     nets = []
     nets_node = sexpr.child(tree, "nets")
@@ -43,9 +59,10 @@ def read(text: str, path: Path, digest: str) -> Design:
         for n in sexpr.children(nets_node, "net"):
             nodes = tuple(
                 Node(sexpr.value(d, "ref"), sexpr.value(d, "pin"),
-                     sexpr.value(d, "pinfunction"), sexpr.value(d, "pintype"))
+                     pin_name(sexpr.value(d, "pinfunction"), legacy), sexpr.value(d, "pintype"))
                 for d in sexpr.children(n, "node"))
-            nets.append(Net(unescape_kicad(sexpr.value(n, "name")), nodes,
+            name = unescape_kicad(sexpr.value(n, "name"))
+            nets.append(Net(legacy_overbar(name) if legacy else name, nodes,
                             sexpr.value(n, "code"), sexpr.value(n, "class")))
 
     sheet_files = {s.path: s.file for s in sheets}
@@ -61,6 +78,11 @@ def read(text: str, path: Path, digest: str) -> Design:
         tool=sexpr.value(design, "tool"), source=sexpr.value(design, "source"),
         parts=tuple(parts), nets=complete_nodes(parts, nets), sheets=sheets,
     )
+
+
+def is_legacy(version: str) -> bool:
+    """True for netlists written by KiCad 5 or older (format versions before "E")."""
+    return len(version) == 1 and version.isalpha() and version.upper() < "E"
 
 
 def _sheet(node: list) -> Sheet:

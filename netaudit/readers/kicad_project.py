@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import hashlib
+import re
 import shutil
 import subprocess
 import tempfile
@@ -65,7 +66,8 @@ def read(path: Path, timeout_s: float = 300.0) -> Design:
         out = Path(tmp) / "export.net"
         try:
             proc = subprocess.run(
-                [cli, "sch", "export", "netlist", "--format", "kicadsexpr", "-o", str(out), str(sch)],
+                [cli, "sch", "export", "netlist", "--format", "kicadsexpr", "-o", str(out),
+                 str(sch.resolve())],
                 capture_output=True, text=True, timeout=timeout_s, check=False)
         except subprocess.TimeoutExpired:
             raise InputError(f"kicad-cli took longer than {timeout_s:.0f} s to export the netlist",
@@ -73,7 +75,32 @@ def read(path: Path, timeout_s: float = 300.0) -> Design:
         if proc.returncode != 0 or not out.is_file():
             detail = (proc.stderr or proc.stdout or "").strip().splitlines()
             why = detail[-1] if detail else f"exit code {proc.returncode}"
+            newer = _newer_than_cli(sch, cli)
+            if newer:
+                raise InputError(f"kicad-cli could not export the netlist ({why}): {newer}", str(sch))
             raise InputError(f"kicad-cli could not export the netlist ({why})", str(sch))
         data = read_bytes(out)
         design = kicad_netlist.read(decode_text(data, out), out, "")
     return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch))
+
+
+_GENERATOR = re.compile(r'\(generator_version\s+"?(\d+)(?:\.(\d+))?')
+
+
+def _newer_than_cli(sch: Path, cli: str) -> str:
+    """Why kicad-cli cannot read ``sch`` when the schematic comes from a newer KiCad, else ""."""
+    try:
+        with open(sch, "rb") as fh:
+            head = fh.read(4096).decode("utf-8", "replace")
+        proc = subprocess.run([cli, "--version"], capture_output=True, text=True, timeout=60,
+                              check=False)
+    except (OSError, subprocess.SubprocessError):
+        return ""
+    made = _GENERATOR.search(head)
+    have = re.match(r"\s*(\d+)\.(\d+)", proc.stdout or "")
+    if not made or not have or int(made.group(1)) <= int(have.group(1)):
+        return ""
+    made_by = f"{made.group(1)}.{made.group(2) or 0}"
+    return (f"the schematic was saved by KiCad {made_by}, newer than this kicad-cli "
+            f"({(proc.stdout or '').strip()}); export the netlist with KiCad {made_by} "
+            "(File > Export > Netlist) and pass the .net file")

@@ -17,7 +17,8 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..model import Design, Net, Node, Part, Pin, Sheet
-from .common import complete_nodes
+from .common import complete_nodes, legacy_overbar, pin_name
+from .kicad_netlist import is_legacy
 
 FORMAT = "kicad-xml"
 FORMAT_BOM = "kicad-bom-xml"
@@ -51,19 +52,27 @@ def read(text: str, path: Path, digest: str, bom: bool | None = None) -> Design:
     sheets = tuple(_sheet(s) for s in (design.findall("sheet") if design is not None else []))
     root_sheet = sheets[0] if sheets else Sheet("/")
 
+    legacy = is_legacy(root.get("version", ""))  # KiCad 5: see kicad_netlist for the differences
+
     libpins: dict[tuple[str, str], tuple[Pin, ...]] = {}
     for lp in root.iterfind("libparts/libpart"):
-        libpins[(lp.get("lib", ""), lp.get("part", ""))] = tuple(
-            Pin(p.get("num", ""), p.get("name", ""), p.get("type", ""))
-            for p in lp.iterfind("pins/pin"))
+        lib = lp.get("lib", "")
+        pins = tuple(Pin(p.get("num", ""), pin_name(p.get("name", ""), legacy), p.get("type", ""))
+                     for p in lp.iterfind("pins/pin"))
+        names = [lp.get("part", "")] + [a.text or "" for a in lp.iterfind("aliases/alias")]
+        for name in names:
+            libpins.setdefault((lib, name), pins)
 
     sheet_files = {s.path: s.file for s in sheets}
     parts = [_part(c, libpins, sheet_files) for c in root.iterfind("components/comp")]
-    nets = [Net(n.get("name", ""),
-                tuple(Node(d.get("ref", ""), d.get("pin", ""), d.get("pinfunction", ""),
-                           d.get("pintype", "")) for d in n.iterfind("node")),
-                n.get("code", ""), n.get("class", ""))
-            for n in root.iterfind("nets/net")]
+    nets = []
+    for n in root.iterfind("nets/net"):
+        name = n.get("name", "")
+        nodes = tuple(Node(d.get("ref", ""), d.get("pin", ""),
+                           pin_name(d.get("pinfunction", ""), legacy), d.get("pintype", ""))
+                      for d in n.iterfind("node"))
+        nets.append(Net(legacy_overbar(name) if legacy else name, nodes,
+                        n.get("code", ""), n.get("class", "")))
     return Design(
         path=str(path), format=FORMAT_BOM if bom else FORMAT, sha256=digest,
         title=root_sheet.title, revision=root_sheet.revision,

@@ -13,25 +13,50 @@ from ..errors import InputError
 
 MAX_DEPTH = 1000  # KiCad files nest about 15 deep; deeper input is not a KiCad file.
 
+# Separators are space, tab, CR and LF and parentheses only: other characters (a form feed, a
+# no-break space, a '"' after an atom's first character) belong to the atom, as in KiCad's
+# own lexer. A line whose first non-blank character is '#' is a comment there, and here.
 _TOKEN = re.compile(
     r"""
-      (?P<space>[ \t\r\n\f\v]+)
+      (?P<space>[ \t\r\n]+)
     | (?P<open>\()
     | (?P<close>\))
     | "(?P<string>[^"\\]*(?:\\.[^"\\]*)*)"
-    | (?P<atom>[^\s()"]+)
+    | (?P<atom>[^ \t\r\n()"][^ \t\r\n()]*)
     | (?P<bad>")
     """,
     re.VERBOSE | re.DOTALL,
 )
-_ESCAPE = re.compile(r"\\(.)", re.DOTALL)
-_ESCAPES = {"n": "\n", "t": "\t", "r": "\r", "\\": "\\", '"': '"'}
+# Backslash escapes inside quoted strings, as KiCad's own S-expression lexer reads them:
+# \" \\ and the C letters a b f n r t v; \x with one or two hex digits; one to three octal
+# digits (each such byte escape becomes the character of that code, 0-255); a lone \x is
+# "x". Any other backslash stays a backslash. (KiCad 9 writes only \" \\ \n \r.)
+_ESCAPE = re.compile(r"\\(x[0-9A-Fa-f]{1,2}|[0-7]{1,3}|.)", re.DOTALL)
+_ESCAPES = {'"': '"', "\\": "\\", "a": "\a", "b": "\b", "f": "\f", "n": "\n", "r": "\r",
+            "t": "\t", "v": "\v"}
+
+
+def _escape(match: re.Match) -> str:
+    code = match.group(1)
+    if code in _ESCAPES:
+        return _ESCAPES[code]
+    if code[0] == "x":
+        return chr(int(code[1:], 16)) if len(code) > 1 else "x"
+    if code[0] in "01234567":
+        return chr(int(code, 8) & 0xFF)
+    return "\\" + code  # not an escape: keep the backslash and the character
 
 
 def _unescape(text: str) -> str:
     if "\\" not in text:
         return text
-    return _ESCAPE.sub(lambda m: _ESCAPES.get(m.group(1), m.group(1)), text)
+    return _ESCAPE.sub(_escape, text)
+
+
+def _starts_line(text: str, offset: int) -> bool:
+    """True when only blanks stand between the start of the line and ``offset``."""
+    start = text.rfind("\n", 0, offset) + 1
+    return not text[start:offset].strip(" \t\r")
 
 
 def position(text: str, offset: int) -> tuple[int, int]:
@@ -44,6 +69,7 @@ def position(text: str, offset: int) -> tuple[int, int]:
 def parse(text: str, path: str = "<text>") -> list:
     """Parse one top-level S-expression list; raise InputError with line:column on bad input."""
     stack: list[list] = []
+    opened: list[int] = []  # offset of each open '(' on the stack, for error messages
     root: list | None = None
 
     def fail(message: str, offset: int) -> InputError:
@@ -59,10 +85,15 @@ def parse(text: str, path: str = "<text>") -> list:
             raise fail("unreadable character", pos)
         kind = m.lastgroup
         if kind == "space":
-            pass
-        elif kind == "open":
-            if root is not None and not stack:
-                raise fail("text after the end of the top-level expression", pos)
+            pos = m.end()
+            continue
+        if kind == "atom" and text[pos] == "#" and _starts_line(text, pos):
+            newline = text.find("\n", pos)
+            pos = end if newline == -1 else newline
+            continue
+        if not stack and root is not None:
+            raise fail("text after the end of the top-level expression", pos)
+        if kind == "open":
             if len(stack) >= MAX_DEPTH:
                 raise fail(f"nesting deeper than {MAX_DEPTH} levels; not a KiCad file", pos)
             new: list = []
@@ -71,24 +102,28 @@ def parse(text: str, path: str = "<text>") -> list:
             else:
                 root = new
             stack.append(new)
+            opened.append(pos)
         elif kind == "close":
             if not stack:
                 raise fail("unbalanced ')' with no matching '('", pos)
             stack.pop()
+            opened.pop()
         elif kind == "bad":
             raise fail("unterminated quoted string", pos)
+        elif not stack:
+            raise fail("expected '(' at the start of an expression", pos)
+        elif kind == "string":
+            stack[-1].append(_unescape(m.group("string")))
         else:
-            if not stack:
-                raise fail("expected '(' at the start of an expression", pos)
-            if kind == "string":
-                stack[-1].append(_unescape(m.group("string")))
-            else:
-                stack[-1].append(m.group("atom"))
+            stack[-1].append(m.group("atom"))
         pos = m.end()
     if stack:
-        raise fail(f"file ends inside {len(stack)} open parenthes{'is' if len(stack) == 1 else 'es'}", end)
+        line, column = position(text, opened[-1])
+        count = len(stack)
+        raise fail(f"file ends before {count} parenthes{'is is' if count == 1 else 'es are'} "
+                   f"closed (the innermost opened at {line}:{column}); is the file cut short?", end)
     if root is None:
-        raise InputError("empty file: no S-expression found", path)
+        raise fail("empty file: no S-expression found", 0)
     return root
 
 

@@ -1,0 +1,1 @@
+"""Tests against the real KiCad designs in ../shared/real-designs (skipped where absent)."""
