@@ -105,6 +105,102 @@ def is_not_fitted(value: str, fields: Iterable[tuple[str, str]], dnp: bool,
     return False
 
 
+# -- board geometry (read from a .kicad_pcb; lengths in metres) ----------------------------
+
+@dataclass(frozen=True)
+class StackupLayer:
+    """One layer of the board's stackup, top to bottom: copper, dielectric or mask."""
+
+    name: str                      # "F.Cu", "dielectric 1", "F.Mask"
+    kind: str                      # "copper" | "dielectric" | "mask"
+    thickness_m: float
+    epsilon_r: float | None = None  # dielectrics and masks; None when the file gives none
+    material: str = ""
+
+
+@dataclass(frozen=True)
+class Stackup:
+    """The board's layers, top to bottom. ``assumed`` when the file had no stackup and the
+    reader built one from board-level defaults (``note`` says which)."""
+
+    layers: tuple[StackupLayer, ...] = ()
+    assumed: bool = False
+    note: str = ""
+
+    @property
+    def thickness_m(self) -> float:
+        """Sum of every layer's thickness (copper, dielectric and mask), as KiCad sums it."""
+        return sum(layer.thickness_m for layer in self.layers)
+
+    @property
+    def copper(self) -> tuple[StackupLayer, ...]:
+        return tuple(layer for layer in self.layers if layer.kind == "copper")
+
+
+@dataclass(frozen=True)
+class TrackRun:
+    """The tracks (segments and arcs) of one net on one copper layer with one width."""
+
+    net: str
+    layer: str
+    width_m: float
+    length_m: float
+    pieces: int = 1
+
+
+@dataclass(frozen=True)
+class Via:
+    """The vias of one net with the same geometry: ``count`` of them."""
+
+    net: str
+    layers: tuple[str, str]        # the copper layers it joins, e.g. ("F.Cu", "B.Cu")
+    diameter_m: float              # pad (annular ring) diameter
+    drill_m: float
+    count: int = 1
+
+
+@dataclass(frozen=True)
+class Board:
+    """Routed geometry of a board: tracks and vias per net, and the stackup."""
+
+    path: str
+    thickness_m: float             # the file's board thickness (general section)
+    stackup: Stackup
+    runs: tuple[TrackRun, ...] = ()
+    vias: tuple[Via, ...] = ()
+    plane_clearance_m: float | None = None  # smallest copper-zone clearance, the gap round a via
+    notes: tuple[str, ...] = ()
+    _runs_by_net: Mapping[str, tuple[TrackRun, ...]] = field(init=False, repr=False, compare=False)
+    _vias_by_net: Mapping[str, tuple[Via, ...]] = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        runs: dict[str, list[TrackRun]] = {}
+        for run in self.runs:
+            runs.setdefault(run.net, []).append(run)
+        vias: dict[str, list[Via]] = {}
+        for via in self.vias:
+            vias.setdefault(via.net, []).append(via)
+        object.__setattr__(self, "_runs_by_net", {k: tuple(v) for k, v in runs.items()})
+        object.__setattr__(self, "_vias_by_net", {k: tuple(v) for k, v in vias.items()})
+
+    def runs_of(self, net: str) -> tuple[TrackRun, ...]:
+        return self._runs_by_net.get(net, ())
+
+    def vias_of(self, net: str) -> tuple[Via, ...]:
+        return self._vias_by_net.get(net, ())
+
+    def routed_length_m(self, net: str) -> float:
+        return sum(run.length_m for run in self.runs_of(net))
+
+    def via_count(self, net: str) -> int:
+        return sum(via.count for via in self.vias_of(net))
+
+    @property
+    def nets(self) -> frozenset[str]:
+        """Nets with tracks or vias on the board."""
+        return frozenset(self._runs_by_net) | frozenset(self._vias_by_net)
+
+
 @dataclass(frozen=True)
 class Design:
     """A whole design, as read from one file. Frozen; indexes are built once."""
@@ -119,6 +215,7 @@ class Design:
     parts: tuple[Part, ...] = ()
     nets: tuple[Net, ...] = ()
     sheets: tuple[Sheet, ...] = ()
+    board: Board | None = None      # routed geometry, when a board file was read
     _parts_by_ref: Mapping[str, Part] = field(init=False, repr=False, compare=False)
     _nets_by_name: Mapping[str, Net] = field(init=False, repr=False, compare=False)
     _net_of_pin: Mapping[tuple[str, str], str] = field(init=False, repr=False, compare=False)
