@@ -76,10 +76,15 @@ def _line_budget(design, bus: Bus, seg: Segment, line: Line, rails, parts, confi
             notes.append(f"pull-up {p.ref}: rail {p.rail} has no known voltage, left out")
             continue
         sources.append((p.ohms, volts))
+    vdd_ref = max((v for _r, v in sources), default=None)
+    if sources:
+        # Pull-downs to ground pull against them: they join the Thevenin source at 0 V.
+        for p in line.pulldowns:
+            if p.fitted and p.ohms:
+                sources.append((p.ohms, 0.0))
     r_th = v_th = None
     if sources:
         r_th, v_th = thevenin(sources)
-    vdd_ref = max((v for _r, v in sources), default=None)
 
     # Capacitance: device pins, capacitors, routing, extra.
     pin_f = 0.0
@@ -121,9 +126,12 @@ def _line_budget(design, bus: Bus, seg: Segment, line: Line, rails, parts, confi
     pick = None
     if vdd_ref is not None and cb > 0:
         weakest = _weakest_sink(seg, parts)
-        window = pullup_window(vdd_ref, cb, mode, iol_a=weakest)
-        rp_min, rp_max = window.rp_min, window.rp_max
-        suggestions, pick = window.suggestions, window.pick
+        # Rp(min) at the Thevenin level: a driver holding the line at V_OL sinks
+        # (V_th - V_OL) / R_th, which is what UM10204 section 7.1 Eq. (2) limits.
+        if v_th > mode.sink(v_th)[0]:
+            window = pullup_window(v_th, cb, mode, iol_a=weakest)
+            rp_min, rp_max = window.rp_min, window.rp_max
+            suggestions, pick = window.suggestions, window.pick
         lo, hi = mode.edge_thresholds_v(vdd_ref)
         rise = edge_time(r_th, v_th, lo, hi, cb)
         if rise is None:

@@ -109,6 +109,7 @@ class Line:
     nets: tuple[str, ...]
     pullups: tuple[PullUp, ...] = ()  # fitted, not fitted and off-board; reporters filter
     series: tuple[SeriesLink, ...] = ()
+    pulldowns: tuple[PullUp, ...] = ()  # resistors from the line to ground (rail = the ground net)
     budget: LineBudget | None = None
 
     @property

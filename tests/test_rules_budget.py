@@ -91,10 +91,6 @@ def test_750_ohms_at_1v8_is_not_too_strong():
     assert of(pulled("750", rail="+1V8"), "pullup-too-strong") == []
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "linebudget.py sizes Rp(min) at the highest pull-up rail (vdd_ref) while rp_ohms is the "
-    "Thévenin resistance of pull-ups to different rails; the current a driver really sinks at "
-    "V_OL is (V_th − V_OL) / R_th, so mixed-rail lines are reported too strong when they are not"))
 def test_pullups_to_two_rails_are_judged_by_the_current_they_send():
     # SDA: 10 kΩ to +5V and 1 kΩ to +1V8. At V_OL 0.4 V the driver sinks
     # (5 − 0.4) / 10 kΩ + (1.8 − 0.4) / 1 kΩ = 0.46 mA + 1.40 mA = 1.86 mA, below the
@@ -108,10 +104,6 @@ def test_pullups_to_two_rails_are_judged_by_the_current_they_send():
     assert of(a, "pullup-too-strong") == []
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "topology/buses.py _line() drops a resistor from a bus line to ground ('a pull-down') and "
-    "linebudget.py never sees it, so a divider that holds the line below V_IH (0.7 VDD) is "
-    "reported as a good line"))
 def test_pull_down_that_holds_the_line_below_the_high_level_is_found():
     # 4.7 kΩ to 3.3 V against 10 kΩ to GND: the line idles at 3.3 · 10 / 14.7 = 2.24 V,
     # below V_IH = 0.7 · 3.3 = 2.31 V (UM10204 Rev. 6 Table 9): it never reads HIGH.

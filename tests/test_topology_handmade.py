@@ -80,11 +80,6 @@ def test_multi_function_pins_driving_leds_make_no_bus():
     assert run(d).buses == ()
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "topology/buses.py strong_enough(): a push button (ref SW, not in parts.looks_passive) on a "
-    "multi-function pin counts as another bus device, so an LED pin plus a button pin make a bus "
-    "with pullup-missing errors; issue 3 says a multi-function pin used for something else must "
-    "not make a bus"))
 def test_multi_function_pins_used_for_led_and_button_make_no_bus():
     d = build([mcu(("PB7/SDA", "PB6/SCL", "VDD", "GND")), _led(), _switch()],
               {"/PB7": ["U1.PB7/SDA", "D1.A"], "/PB6": ["U1.PB6/SCL", "SW1.1"],
@@ -93,11 +88,6 @@ def test_multi_function_pins_used_for_led_and_button_make_no_bus():
     assert a.buses == () and [f.rule for f in a.findings] == []
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "topology/buses.py strong_enough(): one resistor from either multi-function line to a rail "
-    "is taken as proof of a bus, so a 10 k strap pull-up on PB6/SCL beside an LED pin (PB7/SDA) "
-    "makes a bus and a pullup-missing error on the LED pin; a pull-up on only one of the two "
-    "lines is no sign of a bus"))
 def test_strap_pullup_on_one_multi_function_pin_makes_no_bus():
     # PB6/SCL is held high by a 10 kΩ strap (a boot option), PB7/SDA drives an LED.
     d = build([mcu(("PB7/SDA", "PB6/SCL", "VDD", "GND")), _led(), res("R3", "10k")],

@@ -227,19 +227,18 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
     def strong_enough(sda: str, scl: str) -> bool:
         if candidates[sda].strong or candidates[scl].strong:
             return True
-        # Only multi-function pins: need another sign of a bus on the lines.
+        # Only multi-function pins (PB7/SDA): a bus needs a second part that names a bus pin
+        # on the lines, or pull-ups to a rail on both lines; an LED, a button or a single
+        # strap resistor on a port pin is not a bus.
+        talkers = {ref for ln in (sda, scl) for ref, *_ in candidates[ln].pins}
+        if len(talkers) >= 2:
+            return True
+        pulled = 0
         for ln in (sda, scl):
-            talkers = {ref for ref, *_ in candidates[ln].pins}
-            for net in conn.line_nets(ln):
-                for node in design.net(net).nodes:
-                    part = design.part(node.ref)
-                    if part is not None and not looks_passive(part) and node.ref not in talkers:
-                        return True
-            for r, _near, far in conn.resistors_leaving(ln):
-                rail = conn.rail_of.get(far)
-                if r.fitted and rail is not None and rail.volts != 0.0:
-                    return True
-        return False
+            if any(r.fitted and conn.rail_of.get(far) is not None and conn.rail_of[far].volts != 0.0
+                   for r, _near, far in conn.resistors_leaving(ln)):
+                pulled += 1
+        return pulled == 2
 
     accepted = {sda: scl for sda, scl in pairs.items() if strong_enough(sda, scl)}
     paired = set(accepted) | set(accepted.values())
@@ -436,12 +435,14 @@ def _bus_name(conn: Connectivity, root: str, used: set[str]) -> str:
 
 
 def _line(design: Design, conn: Connectivity, signal: str, ln: str, candidates_lines: set[str]) -> Line:
-    pullups = []
+    pullups, pulldowns = [], []
     for r, near, far in conn.resistors_leaving(ln):
         rail = conn.rail_of.get(far)
         if rail is not None:
             if rail.volts == 0.0:
-                continue  # a pull-down
+                pulldowns.append(PullUp(r.ref, r.ohms, rail.net, r.fitted, r.part.sheet_path,
+                                        r.part.sheet_file, False, near))
+                continue
             pullups.append(PullUp(r.ref, r.ohms, rail.net, r.fitted, r.part.sheet_path,
                                   r.part.sheet_file, False, near))
             continue
@@ -456,7 +457,8 @@ def _line(design: Design, conn: Connectivity, signal: str, ln: str, candidates_l
     series = [SeriesLink(r.ref, r.ohms, tuple(sorted((r.a, r.b))), r.fitted)
               for r in conn.series_in(ln) + conn.zero_links_in(ln)]
     return Line(signal, conn.line_nets(ln), tuple(sorted(pullups, key=lambda p: (p.ref, p.net))),
-                tuple(sorted(series, key=lambda s: (s.ref, s.nets))))
+                tuple(sorted(series, key=lambda s: (s.ref, s.nets))),
+                pulldowns=tuple(sorted(pulldowns, key=lambda p: (p.ref, p.net))))
 
 
 def _segment(design, conn, sid, sda_ln, scl_ln, upstream, roles, splitters, edges, bc,
