@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from .addressing import assign_addresses
 from .catalog import describe_parts
 from .checks import CheckContext, run_checks
 from .config import Config, find_config, load_config
@@ -36,6 +37,7 @@ def audit_design(design: Design, config: Config, mode: str | None = None) -> Aud
     topology = find_buses(design, rails, roles=roles, bus_configs=config.buses,
                           default_mode=default_mode)
     buses = budget_buses(design, topology.buses, rails, parts, config)
+    buses = assign_addresses(design, buses, rails, parts)
     ctx = CheckContext(design, buses, rails, config, topology, parts)
     findings = apply_waivers(run_checks(ctx), config.waivers)
     used = {f.rail for b in buses for s in b.segments for line in s.lines for f in line.pullups}

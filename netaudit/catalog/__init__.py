@@ -24,6 +24,17 @@ class PartInfo:
     pin_capacitance_f: float | None = None
     sink_current_a: float | None = None
     source: str = ""                   # "config" or the catalog entry's source note
+    # Addressing details (netaudit/addressing.py). ``address_origin`` says who gave
+    # ``address``: "config" or "catalog". ``address_span``: how many consecutive addresses
+    # the part answers from its address (block-select EEPROMs). ``open_pins``: "low" when the
+    # part's datasheet says an address pin left open reads low (internal pull-down).
+    # ``resistor_coded``: an address pin whose level is set by a resistor value, so a strap
+    # through a resistor cannot be read as a plain tie.
+    address_origin: str | None = None
+    address_span: int | None = None
+    open_pins: str | None = None
+    resistor_coded: bool | None = None
+    catalog_entry: str | None = None   # name of the catalog entry that matched
 
 
 def _merge(base: PartInfo, top: PartInfo) -> PartInfo:
@@ -48,7 +59,8 @@ def describe_parts(design: Design, config: Config) -> dict[str, PartInfo]:
         info = _catalog_info(part) or PartInfo()
         for r in config.part_rules_for(part.ref, part.value, part.lib, part.lib_part):
             info = _merge(info, PartInfo(r.role, r.address, r.io_supply_pin, r.max_mode,
-                                         r.tolerant_volts, r.pin_capacitance_f, None, "config"))
+                                         r.tolerant_volts, r.pin_capacitance_f, None, "config",
+                                         address_origin="config" if r.address is not None else None))
         if info != PartInfo():
             out[part.ref] = info
     return out

@@ -7,6 +7,7 @@ import math
 import os
 
 from .. import __version__
+from ..addressing import address_map
 from ..model import Design
 from ..results import Audit, Device, Line, Segment
 from .messages import phrase
@@ -101,6 +102,7 @@ def report(audit: Audit) -> dict:
         "rails": [{"net": r.net, "volts": r.volts, "source": r.source} for r in audit.rails],
         "buses": [{"name": b.name, "mode": b.mode, "evidence": b.evidence,
                    "segments": [_segment(s) for s in b.segments]} for b in audit.buses],
+        "address_domains": address_map(audit),
         "findings": findings,
         "summary": audit.counts(),
         "caution": CAUTION,

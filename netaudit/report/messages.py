@@ -57,7 +57,44 @@ _PHRASES: dict[str, Callable[[Finding], str]] = {
                                         f"over the {format_si(f.data['capacitance_max_farads'], 'F')} limit",
     "low-level-margin": lambda f: f"series {_refs(f)} ({_ohms(f.data['series_ohms'])}) lifts LOW to "
                                   f"{f.data['low_level_v']:.2f} V on {_where(f)}, above {f.data['limit_v']:.2f} V",
+    "address-collision": lambda f: f"{' and '.join(f.refs)} both answer {_addrs(f)} on {f.data['domain']}",
+    "mux-address-overlap": lambda f: f"{_refs(f)} answer {_addrs(f)}: {_overlap(f)}",
+    "address-reserved": lambda f: f"{_refs(f)} is at {f.data['address']}, reserved"
+                                  f"{' on SMBus' if f.data['address'] in _SMBUS_ONLY else ''} "
+                                  f"({f.data['meaning']})",
+    "address-strap-floating": lambda f: f"{_refs(f)} address pin {f.data['pin']} is not connected"
+                                        + (f"; it reads low, giving {f.data['address']}" if f.data.get("reads_low")
+                                           else f"; the address may be any of {', '.join(f.data['possible_addresses'])}"
+                                           if f.data.get("possible_addresses") else ""),
+    "address-unknown": lambda f: f"address of {_refs(f)} ({f.data['value']}) is unknown: "
+                                 + _UNKNOWN.get(f.data["reason"], f.data["reason"] or "")
+                                 + "".join(f"; {p['pin']}: {p['why']}" for p in f.data.get("pins", [])),
+    "speed-unsupported": lambda f: f"{_refs(f)} runs at most {format_si(f.data['max_hz'], 'Hz')} "
+                                   f"({f.data['max_mode']}), the bus runs {format_si(f.data['bus_hz'], 'Hz')} "
+                                   f"({f.data['bus_mode']})",
 }
+
+_SMBUS_ONLY = {"0x08", "0x0C", "0x28", "0x37", "0x61"}
+_UNKNOWN = {
+    "no-entry": "not in the catalog, netaudit.yaml or its I2C_ADDR field",
+    "pin-missing": "the symbol lacks an address pin the part has",
+    "strap-unresolved": "its address pins cannot be read",
+}
+
+
+def _addrs(f: Finding) -> str:
+    a = f.data.get("addresses") or []
+    numbers = [int(x, 16) for x in a]
+    if len(a) > 2 and numbers == list(range(numbers[0], numbers[0] + len(a))):
+        return f"{a[0]}-{a[-1]}"
+    return ", ".join(a) or "one address"
+
+
+def _overlap(f: Finding) -> str:
+    where = f"channel {f.data['channel']} of {f.data['mux']}" if f.data.get("mux") else "a mux channel"
+    if f.data.get("with_mux"):
+        return f"a device on {where} at the address of multiplexer {', '.join(f.data['with_mux'])}"
+    return f"a device on {where} and a device upstream of the multiplexer"
 
 
 def phrase(f: Finding) -> str:

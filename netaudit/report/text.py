@@ -6,6 +6,7 @@ import os
 from typing import Callable
 
 from .. import __version__
+from ..addressing import address_map
 from ..results import Audit, Finding, Line, Segment, Severity
 from ..units import format_si
 from .json import CAUTION
@@ -75,6 +76,23 @@ def _device_row(seg: Segment) -> str:
     return "    devices: " + ("; ".join(items) or "none")
 
 
+def _address_rows(maps: list[dict]) -> list[str]:
+    """Each address domain of one bus: its own addresses (a channel's domain also holds
+    everything upstream, named by the zone it adds to), with collisions marked."""
+    rows = []
+    shown: dict[str, set] = {}
+    for m in maps:
+        inherited = set().union(*(shown.get(z, set()) for z in m["zones"][1:])) if len(m["zones"]) > 1 else set()
+        own = [d for d in m["devices"] if d["ref"] not in inherited]
+        shown[m["id"]] = {d["ref"] for d in own}
+        clashing = {r for c in m["collisions"] if not c["waived"] for r in c["refs"]}
+        items = [f"{d['address'] or '?'} {d['ref']}" + (" (clash)" if d["ref"] in clashing else "")
+                 for d in own]
+        scope = f" (plus {m['zones'][1]})" if len(m["zones"]) > 1 else ""
+        rows.append(f"  addresses on {m['id']}{scope}: " + (", ".join(items) or "none"))
+    return rows
+
+
 def render(audit: Audit, colour: bool = False) -> str:
     style: Callable[..., str]
     if colour:
@@ -96,6 +114,7 @@ def render(audit: Audit, colour: bool = False) -> str:
                f"{_plural(c['errors'], 'error')}, {_plural(c['warnings'], 'warning')}, {c['infos']} info, "
                f"{c['waived']} waived")
     live = [f for f in audit.findings if not f.waived]
+    maps = address_map(audit)
     for bus in audit.buses:
         out.append("")
         out.append(style(f"{bus.name}", bold=True) + f"  ({bus.mode}, found by {bus.evidence})")
@@ -108,6 +127,7 @@ def render(audit: Audit, colour: bool = False) -> str:
             for f in live:
                 if f.bus == bus.name and f.segment == seg.id:
                     out.append("    " + flag(f))
+        out.extend(_address_rows([m for m in maps if m["bus"] == bus.name]))
         for f in live:
             if f.bus == bus.name and f.segment is None:
                 out.append("  " + flag(f))
