@@ -53,19 +53,45 @@ def _load_audit(path: Path, config: Path | None, mode: str | None):
 @click.option("--fail-on", type=click.Choice(FAIL_LEVELS), default="error", show_default=True,
               help="Lowest severity that makes the exit code 1.")
 @click.option("--json", "json_out", metavar="OUT", help="Write the JSON report (- for stdout).")
+@click.option("--html", "html_out", metavar="OUT", help="Write the HTML release report (- for stdout).")
+@click.option("--sarif", "sarif_out", metavar="OUT", help="Write SARIF 2.1.0 for code scanning (- for stdout).")
+@click.option("--junit", "junit_out", metavar="OUT", help="Write JUnit XML, a test per rule and segment (- for stdout).")
+@click.option("--markdown", "markdown_out", metavar="OUT", help="Write a Markdown summary (- for stdout).")
 @click.option("--quiet", is_flag=True, help="No text summary on the terminal.")
 def check(path: Path, config: Path | None, mode: str | None, fail_on: str, json_out: str | None,
+          html_out: str | None, sarif_out: str | None, junit_out: str | None, markdown_out: str | None,
           quiet: bool) -> None:
-    """Audit the design at PATH (netlist, XML netlist, project, schematic or folder)."""
+    """Audit the design at PATH (netlist, XML netlist, project, schematic or folder).
+
+    Set SOURCE_DATE_EPOCH to fix the run date written into the HTML, SARIF, JUnit and
+    Markdown reports, so that repeated runs give identical files.
+    """
     from .report import json as json_report
     from .report import text as text_report
     from .report.io import write_output
 
+    outputs = {"json": json_out, "html": html_out, "sarif": sarif_out, "junit": junit_out,
+               "markdown": markdown_out}
+    dashes = [f"--{k}" for k, v in outputs.items() if v == "-"]
+    if len(dashes) > 1:
+        raise InputError(f"only one report can go to standard output (-); {', '.join(dashes)} all ask for it")
+    to_stdout = bool(dashes)
+    release = html_out or sarif_out or junit_out or markdown_out
+    if release:
+        from .report import html as html_report
+        from .report import junit as junit_report
+        from .report import markdown as markdown_report
+        from .report import sarif as sarif_report
+
+        when = html_report.run_date()      # a bad SOURCE_DATE_EPOCH stops before any work
     result = _load_audit(path, config, mode)
-    outputs = {"json": json_out}
-    to_stdout = any(v == "-" for v in outputs.values())
     if json_out:
         write_output(json_out, json_report.render(result))
+    if release:
+        for target, module in ((html_out, html_report), (sarif_out, sarif_report),
+                               (junit_out, junit_report), (markdown_out, markdown_report)):
+            if target:
+                write_output(target, module.render(result, when))
     if not quiet and not to_stdout:
         click.echo(text_report.render(result, colour=sys.stdout.isatty()), nl=False)
     sys.exit(exit_code(result, fail_on))
