@@ -8,6 +8,7 @@ from .addressing import assign_addresses
 from .catalog import describe_parts
 from .checks import CheckContext, run_checks
 from .config import Config, find_config, load_config
+from .domains import assign_domains
 from .linebudget import budget_buses
 from .model import Design
 from .readers import read_design
@@ -38,6 +39,7 @@ def audit_design(design: Design, config: Config, mode: str | None = None) -> Aud
                           default_mode=default_mode)
     buses = budget_buses(design, topology.buses, rails, parts, config)
     buses = assign_addresses(design, buses, rails, parts)
+    buses = assign_domains(design, buses, rails, parts)
     ctx = CheckContext(design, buses, rails, config, topology, parts)
     findings = apply_waivers(run_checks(ctx), config.waivers)
     used = {f.rail for b in buses for s in b.segments for line in s.lines for f in line.pullups}

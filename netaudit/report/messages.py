@@ -116,3 +116,66 @@ def phrase(f: Finding) -> str:
 def register(rule_id: str, make: Callable[[Finding], str]) -> None:
     """Let a rule module add its own phrase."""
     _PHRASES[rule_id] = make
+
+
+# -- voltage domains (checks/voltage.py) ---------------------------------------------
+
+def _volts(v) -> str:
+    return "an unknown voltage" if v is None else f"{v:g} V"
+
+
+def _lines_of(f: Finding) -> str:
+    """Where a device finding is, with its verb: one line, or both lines of its segment."""
+    if f.line is None and len(f.data.get("by_line", {})) == 2:
+        return f"SDA and SCL of {f.segment} are"
+    return f"{_where(f)} is"
+
+
+def _rail_unknown(f: Finding) -> str:
+    d = f.data
+    if d.get("kind") == "device-supply":
+        if d["problem"] == "ambiguous":
+            pins = ", ".join(f"{p} on {n}" for p, n in d["candidates"])
+            return (f"{_refs(f)} has supply pins on rails of different voltage ({pins}); "
+                    "name its I/O supply with io_supply_pin")
+        if d["problem"] == "config-pin-missing":
+            return f"{_refs(f)} has no pin {d['candidates'][0][0]} (its io_supply_pin in netaudit.yaml)"
+        return f"no supply pin found on {_refs(f)}; name its I/O supply with io_supply_pin"
+    return (f"rail {d['rail']} has no known voltage ({', '.join(d['needed_by'])}); "
+            "give it one under rails: in netaudit.yaml")
+
+
+def _translator(f: Finding) -> str:
+    d, ref, problem = f.data, _refs(f), f.data["problem"]
+    if problem == "gate-not-on-rail":
+        return f"gate of shifter FET {ref} is on {d['gate_net'] or 'no net'}, not on a supply rail"
+    if problem == "gate-not-lower-rail":
+        return (f"gate of shifter FET {ref} is on {d['gate_rail']} ({_volts(d['gate_volts'])}), not on the "
+                f"lower rail ({_volts(d['low_volts'])})")
+    if problem == "source-drain-reversed":
+        return (f"shifter FET {ref} has its source on the higher side ({_volts(d['source_volts'])}) and its "
+                f"drain on the lower ({_volts(d['drain_volts'])}): source and drain are reversed")
+    if problem == "side-unpowered":
+        return f"side {d['side']} of {ref} has no supply"
+    if problem == "side-pullup-rail":
+        return (f"side {d['side']} of {ref} is pulled up to {d['pullup_rail']} ({_volts(d['pullup_volts'])}) "
+                f"but its supply {d['supply_pin']} is on {d['supply_net']} ({_volts(d['supply_volts'])})")
+    if problem == "sides-reversed":
+        return (f"{ref} side {d['low_side']} ({d['low_side_pin']}, {_volts(d['low_side_volts'])}) is supplied "
+                f"above side {d['high_side']} ({d['high_side_pin']}, {_volts(d['high_side_volts'])}); side "
+                f"{d['low_side']} must be the lower")
+    return f"{ref} is wired wrongly ({problem})"
+
+
+_PHRASES.update({
+    "rail-overvoltage": lambda f: f"{_lines_of(f)} pulled to {_volts(f.data['pullup_volts'])}, above the "
+                                  f"{_volts(f.data['limit_volts'])} that {_refs(f)} tolerates on its "
+                                  f"{_volts(f.data['io_volts'])} supply {f.data['io_rail']}",
+    "rail-high-level-unmet": lambda f: f"{_lines_of(f)} pulled only to {_volts(f.data['pullup_volts'])}; "
+                                       f"{_refs(f)} on its {_volts(f.data['io_volts'])} supply "
+                                       f"{f.data['io_rail']} needs {_volts(f.data['vih_min_volts'])} for HIGH"
+                                       + (" and reads the idle line as LOW" if f.data.get("reads_as") == "low"
+                                          else ""),
+    "rail-voltage-unknown": _rail_unknown,
+    "translator-wiring": _translator,
+})

@@ -71,7 +71,7 @@ def _device_row(seg: Segment) -> str:
         if d.address is not None:
             extra.append(f"0x{d.address:02X}")
         if d.io_rail:
-            extra.append(d.io_rail)
+            extra.append(f"{d.io_rail} {_fmt(d.io_volts, 'V')}")
         items.append(f"{d.ref} {d.value} ({', '.join(extra)})")
     return "    devices: " + ("; ".join(items) or "none")
 
