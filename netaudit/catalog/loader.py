@@ -47,8 +47,9 @@ line and key.
 from __future__ import annotations
 
 import os
+import re
 from dataclasses import dataclass
-from fnmatch import fnmatchcase
+from fnmatch import translate
 from functools import lru_cache
 from pathlib import Path
 
@@ -97,19 +98,32 @@ class CatalogEntry:
     path: str
     line: int
 
+    def __post_init__(self) -> None:
+        for name, globs in (("_value_re", self.values), ("_lib_re", self.lib_parts)):
+            pattern = "|".join(f"(?:{translate(g)})" for g in globs)
+            object.__setattr__(self, name, re.compile(pattern) if globs else None)
+
     def matches(self, part: Part) -> bool:
-        numbers = [part.value] + [part.field(f) for f in PART_NUMBER_FIELDS]
-        numbers = [n.strip().upper() for n in numbers if n and n.strip()]
-        if any(fnmatchcase(n, g) for n in numbers for g in self.values):
+        return self.matches_names(_part_numbers(part), part.lib_part.strip().upper())
+
+    def matches_names(self, numbers: tuple[str, ...], symbol: str) -> bool:
+        """``numbers``: the upper-case value and part-number fields; ``symbol``: the
+        upper-case symbol name."""
+        if self._value_re is not None and any(self._value_re.match(n) for n in numbers):
             return True
-        symbol = part.lib_part.strip().upper()
-        return bool(symbol) and any(fnmatchcase(symbol, g) for g in self.lib_parts)
+        return bool(symbol) and self._lib_re is not None and bool(self._lib_re.match(symbol))
+
+
+def _part_numbers(part: Part) -> tuple[str, ...]:
+    numbers = [part.value] + [part.field(f) for f in PART_NUMBER_FIELDS]
+    return tuple(n.strip().upper() for n in numbers if n and n.strip())
 
 
 def lookup(part: Part) -> PartInfo | None:
     """What the catalog knows about ``part``: the first matching entry's PartInfo."""
+    numbers, symbol = _part_numbers(part), part.lib_part.strip().upper()
     for entry in entries():
-        if entry.matches(part):
+        if entry.matches_names(numbers, symbol):
             return entry.info
     return None
 
