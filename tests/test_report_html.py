@@ -166,6 +166,14 @@ def test_demo_report_in_chromium_shows_every_finding_every_bus_diagram_and_the_a
         assert len(dom.having("svg", **{"class": "address-map", "data_domain": name})) == 1, name
     assert len(dom.having("g", **{"class": "cell"})) == 128 * len(domains)
     assert not dom.having("script")
+    # every address the audit knows is drawn as taken in its domain's map
+    for bus in result.buses:
+        for dom_ in html.address_domains(bus):
+            svg_text = svg.address_map(dom_.name, dom_.local, dom_.upstream)
+            cells = {a["data-address"]: a["class"].split()[1] for a in _dom(svg_text).having("g", **{"class": "cell"})}
+            for d in dom_.local + dom_.upstream:
+                if d.address is not None and not d.address_10bit:
+                    assert cells[f"0x{d.address:02X}"] in ("taken", "upstream", "collision"), (dom_.name, d.ref)
 
 
 def test_demo_report_screenshot_is_saved_as_a_test_artefact(tmp_path):
@@ -272,6 +280,21 @@ def test_bus_diagram_draws_each_segment_pullup_and_device_with_faults_marked():
     assert len(ch1) >= 2                                                 # CH1 lines without pull-ups
     text = svg.bus_diagram(bus, result.findings, phrase)
     assert "2.2 kΩ" in text and "+3V3" in text
+
+
+def test_many_devices_wrap_onto_rows_with_the_lines_carried_on():
+    result = _demo()
+    bus = next(b for b in result.buses if b.name == "I2C_MAIN")
+    root = next(s for s in bus.segments if s.upstream is None)
+    assert len(root.devices) > 6
+    text = svg.bus_diagram(bus, result.findings, phrase)
+    band = text[text.index(f"data-segment='{root.id}'"):]
+    band = band[:band.index("<g class='segment'")]
+    tops = {float(y) for y in re.findall(r"<rect x='[\d.]+' y='([\d.]+)' width='104'", band)}
+    assert len(tops) == 2                                    # two rows of device boxes
+    sda = band[band.index("data-line='sda'"):]
+    sda = sda[:sda.index("</g>")]
+    assert sda.count("<line ") == 2 + 1                      # a line per row and the join between them
 
 
 def test_rising_edge_crosses_30_and_70_percent_at_the_times_of_the_spec():

@@ -97,9 +97,9 @@ def where(f: Finding) -> str:
 
 @dataclass(frozen=True)
 class Domain:
-    """The devices that share one address space: a bus's segments up to the first
-    multiplexer, or one multiplexer channel plus everything upstream of it (CONTRACT.md,
-    topology semantics; translators and repeaters do not split it)."""
+    """The devices one controller can address with one multiplexer channel (per level)
+    switched on, as netaudit.addressing works them out (CONTRACT.md topology semantics):
+    ``local`` live in the domain's own zone, ``upstream`` are seen through the multiplexer."""
 
     name: str
     bus: str
@@ -108,43 +108,22 @@ class Domain:
 
 
 def address_domains(bus: Bus) -> list[Domain]:
-    parents = svg.segment_parents(bus)
-    by_id = {s.id: s for s in bus.segments}
+    """The address domains of one bus, named by the path of multiplexer channels to them."""
+    from ..addressing import address_domains as domains_of
+    from ..addressing import home_zones, zones
 
-    def root(seg: Segment) -> Segment:
-        hops = 0
-        while (seg.upstream is not None and seg.upstream.kind != "mux" and parents.get(seg.id) in by_id
-               and hops < len(by_id)):
-            seg, hops = by_id[parents[seg.id]], hops + 1
-        return seg
-
-    roots: dict[str, list[Segment]] = {}
-    for seg, _depth in svg.segment_order(bus):
-        roots.setdefault(root(seg).id, []).append(seg)
-
-    names: dict[str, str] = {}
-    visible: dict[str, tuple[Device, ...]] = {}
-    out: list[Domain] = []
-    for rid, members in roots.items():
-        head = by_id[rid]
-        skip = {head.upstream.ref} if head.upstream is not None else set()
-        local: dict[str, Device] = {}
-        for seg in members:
-            for d in seg.devices:
-                if d.ref not in skip:
-                    local.setdefault(d.ref, d)
-        up: tuple[Device, ...] = ()
+    zone_map, _zone_of = zones(bus)
+    home = home_zones(bus)
+    out = []
+    for dom in domains_of([bus]):
         name = bus.name
-        parent = parents.get(rid)
-        if head.upstream is not None and parent in by_id:
-            up_root = root(by_id[parent]).id
-            up = visible.get(up_root, ())
-            channel = f" channel {head.upstream.channel}" if head.upstream.channel is not None else ""
-            name = f"{names.get(up_root, bus.name)} → {head.upstream.ref}{channel}"
-        names[rid] = name
-        visible[rid] = tuple(local.values()) + tuple(d for d in up if d.ref not in local)
-        out.append(Domain(name=name, bus=bus.name, local=tuple(local.values()),
-                          upstream=tuple(d for d in up if d.ref not in local)))
+        for zid in reversed(dom.zones):
+            zone = zone_map[zid]
+            if zone.mux is not None:
+                name += f" → {zone.mux}" + (f" channel {zone.channel}" if zone.channel is not None else "")
+        out.append(Domain(name=name, bus=bus.name,
+                          local=tuple(d for d in dom.devices if home.get(d.ref) == dom.id),
+                          upstream=tuple(d for d in dom.devices if home.get(d.ref) != dom.id)))
     return out
 
 

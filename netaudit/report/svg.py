@@ -12,7 +12,7 @@ import html
 import math
 from typing import Iterable, Sequence
 
-from ..results import Bus, Device, Finding, Line, LineBudget, PullUp, Segment
+from ..results import Bus, Device, Finding, LineBudget, PullUp, Segment
 from ..units import format_si
 
 SEVERITY_COLOURS = {"error": "#b3261e", "warning": "#a15c00", "info": "#1f5fa8"}
@@ -99,6 +99,8 @@ def segment_order(bus: Bus) -> list[tuple[Segment, int]]:
 # ---------------------------------------------------------------------------
 
 _BAND_H = 188
+_ROW = 6            # devices per row
+_ROW_H = 110.0      # height of each further row of devices
 _PULL_SLOT = 96
 _DEV_SLOT = 118
 _LEFT = 64          # room for the SDA / SCL labels before the first slot
@@ -174,75 +176,101 @@ def _device(d: Device, x: float, y: float, line_y: dict[str, float], hits: Seque
     return "".join(parts)
 
 
+def _children(order: list[tuple[Segment, int]], parents: dict[str, str | None], seg: Segment) -> dict[str, int]:
+    """How many segments hang behind each part of ``seg`` (to label muxes and translators)."""
+    out: dict[str, int] = {}
+    for s, _ in order:
+        if s.upstream is not None and parents.get(s.id) == seg.id:
+            out[s.upstream.ref] = out.get(s.upstream.ref, 0) + 1
+    return out
+
+
+def _band(bus: Bus, seg: Segment, x0: float, y: float, live: list[Finding], children: dict[str, int],
+          phrase) -> tuple[list[str], float, float]:
+    """One segment's drawing: (SVG pieces, right edge used, height used)."""
+    body: list[str] = []
+    seg_hits = [f for f in live if f.segment == seg.id]
+    title = seg.id
+    if seg.upstream is not None:
+        via = f"{seg.upstream.kind} {seg.upstream.ref}"
+        if seg.upstream.channel is not None:
+            via += f" channel {seg.upstream.channel}"
+        title += f"   (behind {via})"
+    body.append(_text(x0, y + 12, title, size=12, weight="bold"))
+    pullups = [(line, p) for line in seg.lines for p in line.pullups]
+    rows = max(1, math.ceil(len(seg.devices) / _ROW))
+    slots_w = max(len(pullups) * _PULL_SLOT, min(len(seg.devices), _ROW) * _DEV_SLOT, 2 * _PULL_SLOT)
+    x_end = x0 + _LEFT + slots_w
+    right = x_end + 20.0
+    base = {"sda": 92.0, "scl": 108.0}
+    for line in seg.lines:
+        hits = [f for f in seg_hits if f.line in (line.signal, None)
+                and (f.line is not None or set(f.nets) & set(line.nets))]
+        sev = _worst(hits)
+        colour = SEVERITY_COLOURS[sev] if sev else _INK
+        width = 3 if sev else 2
+        # a wrapped row continues the line: SDA joins down the far right, SCL just inside it
+        end = x_end + (8 if line.signal == "sda" and rows > 1 else 0)
+        fault = f" data-fault='{sev}'" if sev else ""
+        body.append(f"<g class='line' data-line='{line.signal}'{fault}>{_tip(hits, phrase)}")
+        for r in range(rows):
+            ly = y + base[line.signal] + r * _ROW_H
+            body.append(_text(x0 + 4, ly + 4, "SDA" if line.signal == "sda" else "SCL", size=11, weight="bold",
+                              fill=colour))
+            body.append(f"<line x1='{_n(x0 + 34)}' y1='{_n(ly)}' x2='{_n(end)}' y2='{_n(ly)}' stroke='{colour}' "
+                        f"stroke-width='{width}'/>")
+        if rows > 1:
+            body.append(f"<line x1='{_n(end)}' y1='{_n(y + base[line.signal])}' x2='{_n(end)}' "
+                        f"y2='{_n(y + base[line.signal] + (rows - 1) * _ROW_H)}' stroke='{colour}' "
+                        f"stroke-width='{width}'/>")
+        nets = ", ".join(line.nets)
+        body.append(_text(x_end + 16, y + base[line.signal] + 4, _shorten(nets, 36), size=10, fill=_MUTED))
+        body.append("</g>")
+        right = max(right, x_end + 22 + 6.2 * min(len(nets), 36))
+    for i, (line, p) in enumerate(pullups):
+        px = x0 + _LEFT + i * _PULL_SLOT + 20
+        hits = [f for f in seg_hits if p.ref in f.refs]
+        body.append(_pullup(p, px, y + 18, y + base[line.signal], hits, phrase))
+    signals = {line.signal for line in seg.lines}
+    for i, d in enumerate(seg.devices):
+        r, col = divmod(i, _ROW)
+        line_y = {k: y + v + r * _ROW_H for k, v in base.items() if k in signals}
+        hits = [f for f in live if d.ref in f.refs and f.segment in (seg.id, None)]
+        body.append(_device(d, x0 + _LEFT + col * _DEV_SLOT, y + 122 + r * _ROW_H, line_y, hits, phrase,
+                            children.get(d.ref, 0)))
+    if not seg.lines:
+        body.append(_text(x0, y + 100, "no lines found", size=10, fill=_MUTED))
+    return body, right, _BAND_H + (rows - 1) * _ROW_H
+
+
 def bus_diagram(bus: Bus, findings: Sequence[Finding], phrase) -> str:
     """The bus as a drawing: one band per segment (depth first), SDA and SCL as two lines,
-    pull-ups above them to their rails, devices below; segments behind a multiplexer,
-    translator or repeater indented under the segment that holds that part. Parts and lines
-    with unwaived findings are drawn in the colour of the worst severity, with the finding
-    texts as tooltips. ``phrase`` turns a Finding into its sentence."""
+    pull-ups above them to their rails, devices below (six to a row, the lines continued
+    down the right for the next row); segments behind a multiplexer, translator or repeater
+    indented under the segment that holds that part. Parts and lines with unwaived findings
+    are drawn in the colour of the worst severity, with the finding texts as tooltips.
+    ``phrase`` turns a Finding into its sentence."""
     live = [f for f in findings if not f.waived and f.bus == bus.name]
     order = segment_order(bus)
     parents = segment_parents(bus)
     body: list[str] = []
-    width = 400.0
-    band_top: dict[str, float] = {}
-    for index, (seg, depth) in enumerate(order):
-        y = 8 + index * _BAND_H
-        band_top[seg.id] = y
+    width, y = 400.0, 8.0
+    bottom: dict[str, float] = {}
+    for seg, depth in order:
         x0 = 12 + depth * 30
-        seg_hits = [f for f in live if f.segment == seg.id]
-        title = seg.id
-        if seg.upstream is not None:
-            via = f"{seg.upstream.kind} {seg.upstream.ref}"
-            if seg.upstream.channel is not None:
-                via += f" channel {seg.upstream.channel}"
-            title += f"   (behind {via})"
         body.append(f"<g class='segment' data-segment='{esc(seg.id)}'>")
-        body.append(_text(x0, y + 12, title, size=12, weight="bold"))
         parent = parents.get(seg.id)
-        if parent is not None and parent in band_top:
-            tx = x0 - 16
-            body.append(f"<path d='M{_n(tx)} {_n(band_top[parent] + 178)} V{_n(y + 8)} H{_n(x0 - 4)}' "
+        if parent is not None and parent in bottom:
+            body.append(f"<path d='M{_n(x0 - 16)} {_n(bottom[parent])} V{_n(y + 8)} H{_n(x0 - 4)}' "
                         f"fill='none' stroke='{_MUTED}' stroke-width='1.5'/>")
-        pullups = [(line, p) for line in seg.lines for p in line.pullups]
-        children = {s.upstream.ref: 0 for s, _ in order if s.upstream is not None}
-        for s, _ in order:
-            if s.upstream is not None and parents.get(s.id) == seg.id:
-                children[s.upstream.ref] += 1
-        slots_w = max(len(pullups) * _PULL_SLOT, len(seg.devices) * _DEV_SLOT, 2 * _PULL_SLOT)
-        x_end = x0 + _LEFT + slots_w
-        line_y = {line.signal: {"sda": y + 92.0, "scl": y + 108.0}[line.signal] for line in seg.lines}
-        for line in seg.lines:
-            ly = line_y[line.signal]
-            hits = [f for f in seg_hits if f.line in (line.signal, None)
-                    and (f.line is not None or set(f.nets) & set(line.nets))]
-            sev = _worst(hits)
-            colour = SEVERITY_COLOURS[sev] if sev else _INK
-            name = "SDA" if line.signal == "sda" else "SCL"
-            fault = f" data-fault='{sev}'" if sev else ""
-            body.append(f"<g class='line' data-line='{line.signal}'{fault}>{_tip(hits, phrase)}")
-            body.append(_text(x0 + 4, ly + 4, name, size=11, weight="bold", fill=colour))
-            body.append(f"<line x1='{_n(x0 + 34)}' y1='{_n(ly)}' x2='{_n(x_end)}' y2='{_n(ly)}' stroke='{colour}' "
-                        f"stroke-width='{3 if sev else 2}'/>")
-            nets = ", ".join(line.nets)
-            body.append(_text(x_end + 6, ly + 4, _shorten(nets, 36), size=10, fill=_MUTED))
-            body.append("</g>")
-            width = max(width, x_end + 12 + 6.2 * min(len(nets), 36))
-        for i, (line, p) in enumerate(pullups):
-            px = x0 + _LEFT + i * _PULL_SLOT + 20
-            hits = [f for f in seg_hits if p.ref in f.refs]
-            body.append(_pullup(p, px, y + 18, line_y[line.signal], hits, phrase))
-        for i, d in enumerate(seg.devices):
-            dx = x0 + _LEFT + i * _DEV_SLOT
-            hits = [f for f in live if d.ref in f.refs and f.segment in (seg.id, None)]
-            body.append(_device(d, dx, y + 122, line_y, hits, phrase, children.get(d.ref, 0)))
-        if not seg.lines:
-            body.append(_text(x0, y + 100, "no lines found", size=10, fill=_MUTED))
+        pieces, right, height = _band(bus, seg, x0, y, live, _children(order, parents, seg), phrase)
+        body.extend(pieces)
         body.append("</g>")
-        width = max(width, x_end + 20)
-    height = 8 + len(order) * _BAND_H
+        bottom[seg.id] = y + height - 10
+        width = max(width, right)
+        y += height
     return (f"<svg xmlns='http://www.w3.org/2000/svg' class='bus-diagram' data-bus='{esc(bus.name)}' "
-            f"viewBox='0 0 {_n(width)} {_n(height)}' width='{_n(width)}' height='{_n(height)}' role='img' "
+            f"viewBox='0 0 {_n(width)} {_n(y)}' width='{_n(width)}' height='{_n(y)}' role='img' "
             f"aria-label='{esc('Diagram of bus ' + bus.name)}' {_FONT}>"
             + "".join(body) + "</svg>")
 
