@@ -147,10 +147,11 @@ def pins_named(part: Part, name: str) -> tuple[str, ...]:
 class Resolver:
     """Reads straps and works out addresses for one design."""
 
-    def __init__(self, design: Design, rails: Mapping[str, Rail], parts: Mapping):
+    def __init__(self, design: Design, rails: Mapping[str, Rail], parts: Mapping,
+                 conn: Connectivity | None = None):
         self.design = design
         self.parts = parts
-        self.conn = Connectivity(design, rails)
+        self.conn = conn if conn is not None else Connectivity(design, rails)
 
     # -- one pin
     def strap(self, part: Part, pin: str, bus_lines: Mapping[str, str], resistor_coded: bool) -> Strap:
@@ -272,9 +273,10 @@ def _candidates(base, table, straps) -> tuple[int, ...]:
 # ------------------------------------------------------------------- the pipeline step
 
 def resolve_buses(design: Design, buses: tuple[Bus, ...], rails: Mapping[str, Rail],
-                  parts: Mapping) -> dict[tuple[str, str], Resolution]:
-    """A Resolution for every device of every bus, keyed by (bus name, ref)."""
-    resolver = Resolver(design, rails, parts)
+                  parts: Mapping, conn: Connectivity | None = None) -> dict[tuple[str, str], Resolution]:
+    """A Resolution for every device of every bus, keyed by (bus name, ref).
+    Pass the topology's ``conn`` to reuse its connectivity instead of building it again."""
+    resolver = Resolver(design, rails, parts, conn)
     out: dict[tuple[str, str], Resolution] = {}
     for bus in buses:
         on: dict[str, list[Segment]] = {}
@@ -288,10 +290,10 @@ def resolve_buses(design: Design, buses: tuple[Bus, ...], rails: Mapping[str, Ra
     return out
 
 
-def assign_addresses(design: Design, buses: tuple[Bus, ...], rails: Mapping[str, Rail],
+def assign_addresses(buses: tuple[Bus, ...], resolved: Mapping[tuple[str, str], Resolution],
                      parts: Mapping) -> tuple[Bus, ...]:
-    """Buses with each device's address, address source and maximum mode filled in."""
-    resolved = resolve_buses(design, buses, rails, parts)
+    """Buses with each device's address, address source and maximum mode filled in from
+    the resolutions of :func:`resolve_buses`."""
     out = []
     for bus in buses:
         segs = []
@@ -432,7 +434,7 @@ def address_map(audit) -> list[dict]:
     addresses of its targets and multiplexers (and of any other device that has one), and
     the collision findings among them."""
     out = []
-    for dom in address_domains(audit.buses):
+    for dom in audit.address_domains:
         devices = [d for d in dom.devices if d.role in ADDRESSED_ROLES or d.address is not None]
         refs = {d.ref for d in devices}
         collisions = [{"rule": f.rule, "refs": list(f.refs),

@@ -4,11 +4,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .addressing import assign_addresses
+from .addressing import address_domains, assign_addresses, resolve_buses
 from .catalog import describe_parts
 from .checks import CheckContext, run_checks
 from .config import Config, find_config, load_config
-from .domains import assign_domains
+from .domains import Domains, assign_domains
 from .linebudget import budget_buses
 from .model import Design
 from .readers import read_design
@@ -38,12 +38,15 @@ def audit_design(design: Design, config: Config, mode: str | None = None) -> Aud
     topology = find_buses(design, rails, roles=roles, bus_configs=config.buses,
                           default_mode=default_mode)
     buses = budget_buses(design, topology.buses, rails, parts, config)
-    buses = assign_addresses(design, buses, rails, parts)
-    buses = assign_domains(design, buses, rails, parts)
-    ctx = CheckContext(design, buses, rails, config, topology, parts)
+    resolutions = resolve_buses(design, buses, rails, parts, topology.conn)
+    buses = assign_addresses(buses, resolutions, parts)
+    domains = Domains(design, rails, parts, topology.conn)
+    buses = assign_domains(design, buses, domains)
+    ctx = CheckContext(design, buses, rails, config, topology, parts, resolutions, domains)
     findings = apply_waivers(run_checks(ctx), config.waivers)
     used = {f.rail for b in buses for s in b.segments for line in s.lines for f in line.pullups}
     rail_list = tuple(sorted((r for r in rails.values() if r.net in used or r.volts is not None),
                              key=lambda r: r.net))
     return Audit(design=design, rails=rail_list, buses=buses, findings=tuple(findings),
-                 config_path=config.path, config_sha256=config.sha256, mode=default_mode)
+                 config_path=config.path, config_sha256=config.sha256, mode=default_mode,
+                 address_domains=tuple(address_domains(buses)))

@@ -85,13 +85,14 @@ class Supply:
 
 
 class Domains:
-    """Supply lookups for one design; build it with :func:`domains_for`."""
+    """Supply lookups for one design, built once per audit and shared with the voltage rules."""
 
-    def __init__(self, design: Design, rails: Mapping[str, Rail], parts: Mapping):
+    def __init__(self, design: Design, rails: Mapping[str, Rail], parts: Mapping,
+                 conn: Connectivity | None = None):
         self.design = design
         self.rails = rails
         self.parts = parts
-        self.conn = Connectivity(design, rails)
+        self.conn = conn if conn is not None else Connectivity(design, rails)
         self._switched: dict[str, str] | None = None
 
     # -- nets and rails ------------------------------------------------------------
@@ -287,18 +288,6 @@ class Domains:
         return self.switched().get(self.conn.group_of[net])
 
 
-_LAST: list = []   # (design, rails, parts, Domains): the checks reuse the step's lookups
-
-
-def domains_for(design: Design, rails: Mapping[str, Rail], parts: Mapping) -> Domains:
-    """The Domains of a design, built once per (design, rails, parts) objects."""
-    if _LAST and _LAST[0][0] is design and _LAST[0][1] is rails and _LAST[0][2] is parts:
-        return _LAST[0][3]
-    dom = Domains(design, rails, parts)
-    _LAST[:] = [(design, rails, parts, dom)]
-    return dom
-
-
 def has_own_supply(device: Device, design: Design) -> bool:
     """Connectors and discrete FETs have no supply of their own."""
     part = design.part(device.ref)
@@ -308,10 +297,8 @@ def has_own_supply(device: Device, design: Design) -> bool:
 
 # -- the step ---------------------------------------------------------------------
 
-def assign_domains(design: Design, buses: tuple[Bus, ...], rails: Mapping[str, Rail],
-                   parts: Mapping) -> tuple[Bus, ...]:
+def assign_domains(design: Design, buses: tuple[Bus, ...], dom: Domains) -> tuple[Bus, ...]:
     """Fill every device's io_rail and io_volts, and note devices on switched rails."""
-    dom = domains_for(design, rails, parts)
     out = []
     for bus in buses:
         segs = []

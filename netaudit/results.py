@@ -175,6 +175,7 @@ class Audit:
     config_path: str | None = None
     config_sha256: str | None = None
     mode: str = "fast"
+    address_domains: tuple = ()   # netaudit.addressing.AddressDomain: what each mux channel sees
 
     def counts(self) -> dict[str, int]:
         live = [f for f in self.findings if not f.waived]

@@ -56,6 +56,8 @@ class CheckContext:
     config: Config
     topology: object   # netaudit.topology.buses.Topology: unpaired lines, unconnected pins
     parts: dict        # ref -> netaudit.catalog.PartInfo, for parts config or catalog know
+    resolutions: dict  # (bus, ref) -> netaudit.addressing.Resolution: straps and addresses
+    domains: object    # netaudit.domains.Domains: supply lookups
 
     def segments(self) -> Iterator[tuple[Bus, Segment]]:
         for bus in self.buses:

@@ -38,15 +38,8 @@ SMBUS_RESERVED: dict[int, str] = {
     0x61: "SMBus Device Default Address (ARP)",
 }
 
-_CACHE: list = []   # [(ctx, resolutions)]: the last context's resolutions, shared by the rules
-
-
 def _resolutions(ctx: CheckContext) -> dict[tuple[str, str], Resolution]:
-    if _CACHE and _CACHE[0][0] is ctx:
-        return _CACHE[0][1]
-    res = resolve_buses(ctx.design, ctx.buses, ctx.rails, ctx.parts)
-    _CACHE[:] = [(ctx, res)]
-    return res
+    return ctx.resolutions
 
 
 def _devices(bus: Bus):

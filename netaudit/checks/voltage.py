@@ -12,7 +12,7 @@ from __future__ import annotations
 import json
 import re
 
-from ..domains import SAME_VOLTS_V, domains_for, has_own_supply, norm_pin
+from ..domains import SAME_VOLTS_V, has_own_supply, norm_pin
 from ..electrical.modes import get_mode
 from ..results import Line, Severity
 from ..topology.parts import is_fet
@@ -172,7 +172,7 @@ def rail_voltage_unknown(ctx: CheckContext):
     device's I/O supply pin with ``io_supply_pin`` under ``parts:``.
     Source: UM10204 Rev. 6 §3.1.2 (input levels relate to the device's VDD).
     """
-    dom = domains_for(ctx.design, ctx.rails, ctx.parts)
+    dom = ctx.domains
     for bus in ctx.buses:
         need: dict[str, dict] = {}
 
@@ -275,7 +275,7 @@ def translator_wiring(ctx: CheckContext):
 
 
 def _fet_shifters(ctx: CheckContext):
-    dom = domains_for(ctx.design, ctx.rails, ctx.parts)
+    dom = ctx.domains
     where = _where(ctx)
     seen = set()
     for _bus, seg in ctx.segments():
@@ -308,7 +308,7 @@ def _fet_shifters(ctx: CheckContext):
 
 
 def _integrated(ctx: CheckContext):
-    dom = domains_for(ctx.design, ctx.rails, ctx.parts)
+    dom = ctx.domains
     by_ref: dict[str, list] = {}
     for bus, seg in ctx.segments():
         for d in seg.devices:

@@ -74,6 +74,7 @@ class Topology:
     unconnected: tuple[UnconnectedPin, ...]
     rails: Mapping[str, Rail]
     line_of_net: Mapping[str, str]       # net -> line id, for bus lines only
+    conn: Connectivity                   # 0 ohm groups, series joins, resistors: built once, shared
 
 
 @dataclass(frozen=True)
@@ -350,7 +351,7 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
             for net in conn.line_nets(ln):
                 line_of_net[net] = ln
     return Topology(tuple(sorted(buses, key=lambda b: b.name)), tuple(unpaired),
-                    tuple(sorted(set(unconnected), key=lambda u: (u.ref, u.pin))), rails, line_of_net)
+                    tuple(sorted(set(unconnected), key=lambda u: (u.ref, u.pin))), rails, line_of_net, conn)
 
 
 def _evidence_kind(candidates, keys, accepted) -> str:
