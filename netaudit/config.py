@@ -26,6 +26,9 @@ import yaml
 
 from .errors import InputError
 
+# libyaml's loader when PyYAML was built with it (same nodes and marks, about 10x faster).
+SAFE_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
 CONFIG_FILENAME = "netaudit.yaml"
 CONFIG_VERSION = 1
 MODES = ("standard", "fast", "fast-plus", "smbus", "smbus-400k", "smbus-1m")
@@ -226,7 +229,7 @@ def parse_config(text: str, path: str | Path | None = None, *,
     where = None if path is None else str(path)
     digest = sha256 or hashlib.sha256(text.encode("utf-8")).hexdigest()
     try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
+        root = yaml.compose(text, Loader=SAFE_LOADER)
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         problem = exc.problem or exc.context or "syntax error"

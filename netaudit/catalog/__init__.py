@@ -44,19 +44,26 @@ def _merge(base: PartInfo, top: PartInfo) -> PartInfo:
     return replace(merged, source=top.source or base.source)
 
 
-def _catalog_info(part: Part) -> PartInfo | None:
-    try:
-        from .loader import lookup
-    except ImportError:
-        return None
-    return lookup(part)
-
-
 def describe_parts(design: Design, config: Config) -> dict[str, PartInfo]:
-    """PartInfo for every part the config or the catalog knows."""
+    """PartInfo for every part the config or the catalog knows.
+
+    The catalog is asked once per distinct (value, part-number fields, symbol): boards
+    repeat the same part many times. Resistors, capacitors and the like are not asked
+    at all; the catalog holds bus devices only.
+    """
+    from ..topology.parts import looks_passive
+    from .loader import catalog_key, lookup_key
+
     out: dict[str, PartInfo] = {}
+    known: dict[tuple, PartInfo | None] = {}
     for part in design.parts:
-        info = _catalog_info(part) or PartInfo()
+        info = None
+        if not looks_passive(part):
+            key = catalog_key(part)
+            if key not in known:
+                known[key] = lookup_key(*key)
+            info = known[key]
+        info = info or PartInfo()
         for r in config.part_rules_for(part.ref, part.value, part.lib, part.lib_part):
             info = _merge(info, PartInfo(r.role, r.address, r.io_supply_pin, r.max_mode,
                                          r.tolerant_volts, r.pin_capacitance_f, None, "config",

@@ -55,7 +55,7 @@ from pathlib import Path
 
 import yaml
 
-from ..config import (MAX_10BIT, MAX_7BIT, MODES, PF, ROLES, FixedAddress, PinBitsAddress,
+from ..config import (SAFE_LOADER, MAX_10BIT, MAX_7BIT, MODES, PF, ROLES, FixedAddress, PinBitsAddress,
                       PinTieAddress, _Reader)
 from ..errors import InputError
 from ..model import Part
@@ -119,9 +119,19 @@ def _part_numbers(part: Part) -> tuple[str, ...]:
     return tuple(n.strip().upper() for n in numbers if n and n.strip())
 
 
+def catalog_key(part: Part) -> tuple[tuple[str, ...], str]:
+    """What the catalog matches a part by: its upper-case value and part-number fields,
+    and its upper-case symbol name. Parts with equal keys get equal answers."""
+    return _part_numbers(part), part.lib_part.strip().upper()
+
+
 def lookup(part: Part) -> PartInfo | None:
     """What the catalog knows about ``part``: the first matching entry's PartInfo."""
-    numbers, symbol = _part_numbers(part), part.lib_part.strip().upper()
+    return lookup_key(*catalog_key(part))
+
+
+def lookup_key(numbers: tuple[str, ...], symbol: str) -> PartInfo | None:
+    """:func:`lookup` by a :func:`catalog_key`."""
     for entry in entries():
         if entry.matches_names(numbers, symbol):
             return entry.info
@@ -168,7 +178,7 @@ def load_file(path: str | Path) -> list[CatalogEntry]:
 
 def parse_catalog(text: str, path: str = "<catalog>") -> list[CatalogEntry]:
     try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
+        root = yaml.compose(text, Loader=SAFE_LOADER)
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         raise InputError(f"not valid YAML: {exc.problem or exc.context or 'syntax error'}", path,
