@@ -226,8 +226,8 @@ class Domains:
                 if _SWITCHED_NAME.search(base):
                     out[rep] = "named as switched"
         for part in design.parts:
-            if is_connector(part) or not part.fitted:
-                continue
+            if is_connector(part) or not part.fitted or (looks_passive(part) and not is_fet(part)):
+                continue  # resistors, capacitors, diodes switch no rail
             pins = {norm_pin(p.name): p for p in part.pins}
             if is_fet(part) or {"B", "C", "E"} <= set(pins):
                 # A high-side switch: emitter/source on a supply, collector/drain on the

@@ -57,10 +57,14 @@ def read(text: str, path: Path, digest: str) -> Design:
     nets_node = sexpr.child(tree, "nets")
     if nets_node is not None:
         for n in sexpr.children(nets_node, "net"):
-            nodes = tuple(
-                Node(sexpr.value(d, "ref"), sexpr.value(d, "pin"),
-                     pin_name(sexpr.value(d, "pinfunction"), legacy), sexpr.value(d, "pintype"))
-                for d in sexpr.children(n, "node"))
+            nodes = []
+            for d in n[1:]:
+                if type(d) is not list or not d or d[0] != "node":
+                    continue
+                a = _atoms(d)
+                nodes.append(Node(a.get("ref", ""), a.get("pin", ""),
+                                  pin_name(a.get("pinfunction", ""), legacy), a.get("pintype", "")))
+            nodes = tuple(nodes)
             name = unescape_kicad(sexpr.value(n, "name"))
             nets.append(Net(legacy_overbar(name) if legacy else name, nodes,
                             sexpr.value(n, "code"), sexpr.value(n, "class")))
@@ -78,6 +82,16 @@ def read(text: str, path: Path, digest: str) -> Design:
         tool=sexpr.value(design, "tool"), source=sexpr.value(design, "source"),
         parts=tuple(parts), nets=complete_nodes(parts, nets), sheets=sheets,
     )
+
+
+def _atoms(item: list) -> dict[str, str]:
+    """``(node (ref "U1") (pin "3") ...)`` -> ``{"ref": "U1", "pin": "3", ...}``: the first
+    atom of each child list, first occurrence winning (as :func:`sexpr.value` reads them)."""
+    out: dict[str, str] = {}
+    for c in item[1:]:
+        if type(c) is list and len(c) > 1 and type(c[1]) is str and c[0] not in out:
+            out[c[0]] = c[1]
+    return out
 
 
 def is_legacy(version: str) -> bool:

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Iterable, Mapping
 
 import networkx as nx
@@ -21,6 +22,8 @@ import networkx as nx
 from ..model import Design, Part
 from ..results import Rail
 from ..units import part_value
+
+_ohms = lru_cache(maxsize=65536)(lambda value, fields: part_value(value, fields, "ohm"))
 
 SERIES_MAX_OHMS = 1000.0
 
@@ -73,7 +76,7 @@ def find_resistors(design: Design) -> list[Resistor]:
             pairs = [(str(k), str(n + 1 - k)) for k in range(1, n // 2 + 1)]
         else:
             continue
-        ohms = part_value(part.value, part.fields, "ohm")
+        ohms = _ohms(part.value, part.fields)
         for pa, pb in pairs:
             na, nb = design.net_of(part.ref, pa), design.net_of(part.ref, pb)
             if na and nb and na != nb:

@@ -11,12 +11,15 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from functools import lru_cache
 
 _MARKUP = re.compile(r"[~_^]\{([^{}]*)\}")
 
 
 def strip_markup(name: str) -> str:
     """Remove KiCad's overbar/subscript/superscript markup: ``SDA_{1}`` -> ``SDA1``."""
+    if "{" not in name:
+        return name
     prev = None
     while prev != name:
         prev, name = name, _MARKUP.sub(r"\1", name)
@@ -48,6 +51,7 @@ _MUX_SC = re.compile(r"^SC(?P<n>\d{1,2})$")
 _PREFIX_KEY = re.compile(r"^(?:I2C|IIC|TWI)(?P<n>\d+)_")
 
 
+@lru_cache(maxsize=65536)
 def pin_signal(pin_function: str) -> PinSignal | None:
     """Classify a pin function; None when it names neither bus signal."""
     if not pin_function:
@@ -85,6 +89,7 @@ def net_base(name: str) -> str:
     return base
 
 
+@lru_cache(maxsize=65536)
 def net_signal(name: str) -> str | None:
     """What a net's name says: "sda", "scl" or None. Unnamed ``Net-(...)`` nets say nothing."""
     if name.startswith("Net-(") or name.startswith("unconnected-("):
