@@ -14,7 +14,9 @@ from typing import Mapping
 from .config import Config
 from .electrical.budget import edge_time, pullup_window, thevenin
 from .electrical.modes import get_mode
-from .model import Design
+from .electrical.traces import (DEFAULT_PLANE_CLEARANCE_M, RoutedCapacitance,
+                                 routed_capacitance)
+from .model import Board, Design
 from .results import Bus, Line, LineBudget, Rail, Segment
 from .units import part_value
 
@@ -105,7 +107,8 @@ def _line_budget(design, bus: Bus, seg: Segment, line: Line, rails, parts, confi
                 notes.append(f"capacitor {ref}: value unreadable, left out")
             else:
                 cap_f += farads
-    routing_f = 0.0
+    routing_f = vias_f = 0.0
+    routed_m = None
     traced = 0
     for net in line.nets:
         t = config.traces.get(net)
@@ -113,12 +116,19 @@ def _line_budget(design, bus: Bus, seg: Segment, line: Line, rails, parts, confi
             continue
         traced += 1
         routing_f += t.capacitance_f if t.capacitance_f is not None else t.length_m * config.defaults.trace_f_per_m
-    if not traced:
+    if design.board is not None:
+        on_board = [net for net in line.nets if net not in config.traces]
+        routed = routed_capacitance(design.board, on_board)
+        routing_f += routed.tracks_farads
+        vias_f = routed.vias_farads
+        routed_m = sum(design.board.routed_length_m(net) for net in line.nets)
+        notes.extend(_board_notes(design.board, routed, on_board, traced, line.signal.upper()))
+    elif not traced:
         notes.append("routing not included: no trace data (add traces: to netaudit.yaml or audit the board)")
     if connectors and not extra_f:
         notes.append("off-board load beyond the connector not included (set extra_capacitance_pf)")
-    cb = pin_f + cap_f + routing_f + extra_f
-    parts_f = {"pins": pin_f, "routing": routing_f, "vias": 0.0, "capacitors": cap_f, "extra": extra_f}
+    cb = pin_f + cap_f + routing_f + vias_f + extra_f
+    parts_f = {"pins": pin_f, "routing": routing_f, "vias": vias_f, "capacitors": cap_f, "extra": extra_f}
 
     # Window and rise time.
     rp_min = rp_max = rise = None
@@ -140,9 +150,31 @@ def _line_budget(design, bus: Bus, seg: Segment, line: Line, rails, parts, confi
         notes.append("no fitted pull-up to a rail of known voltage: window and rise time not worked out")
     budget = LineBudget(rp_ohms=r_th, rail_volts=v_th, rp_min_ohms=rp_min, rp_max_ohms=rp_max,
                         capacitance_farads=cb, rise_time_s=rise, rise_time_max_s=mode.rise_time_max_s,
-                        capacitance_parts=parts_f, notes=tuple(notes), suggestions_ohms=suggestions,
-                        pick_ohms=pick)
+                        capacitance_parts=parts_f, routed_length_m=routed_m, notes=tuple(notes),
+                        suggestions_ohms=suggestions, pick_ohms=pick)
     return dataclasses.replace(line, budget=budget)
+
+
+def _board_notes(board: Board, routed: RoutedCapacitance, nets: list[str], traced: int,
+                 label: str) -> list[str]:
+    """What the routed capacitance of a line is made of and assumed, in words."""
+    gap = board.plane_clearance_m
+    gap_text = (f"{gap * 1e3:g} mm, the clearance of the board's largest copper zone" if gap else
+                f"{DEFAULT_PLANE_CLEARANCE_M * 1e3:g} mm assumed, no zones on the board")
+    vias = f"{routed.via_count} via{'s' if routed.via_count != 1 else ''}"
+    notes = [f"{label} routed on the board: {routed.length_m * 1e3:.1f} mm of track "
+             f"({routed.tracks_farads * 1e12:.1f} pF), {vias} ({routed.vias_farads * 1e12:.1f} pF)",
+             "routing capacitance from the board: outer layers as microstrip over the next "
+             "dielectric, inner layers as stripline between their neighbours (IPC-2141), vias after "
+             f"Johnson & Graham with a plane gap of {gap_text}; pads and solder mask not included"]
+    notes += list(board.notes)
+    if traced:
+        notes.append("nets with a traces: entry in netaudit.yaml use it instead of the board's routing")
+    notes += [f"net {net} has no tracks on the board" for net in nets
+              if not board.runs_of(net) and not board.vias_of(net)]
+    notes += [f"routing approximate, outside the formula's range: {text}" for text in routed.approximate]
+    notes += list(routed.notes)
+    return notes
 
 
 def _weakest_sink(seg: Segment, parts) -> float | None:

@@ -10,7 +10,7 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..model import Design
-from . import kicad_netlist, kicad_project, kicad_xml
+from . import kicad_board, kicad_netlist, kicad_project, kicad_xml
 from .common import decode_text, read_bytes, sha256
 
 PROJECT_SUFFIXES = {".kicad_pro", ".kicad_sch"}
@@ -24,8 +24,7 @@ def read_design(path: str | Path) -> Design:
             raise InputError("no such file or folder", str(p))
         return kicad_project.read(p)
     if p.suffix == ".kicad_pcb":
-        raise InputError("reading boards directly is not supported yet; pass the project "
-                         "(.kicad_pro) or an exported netlist (.net)", str(p))
+        return kicad_board.read_file(p)
     data = read_bytes(p)
     text = decode_text(data, p)
     if not text.strip():
@@ -35,6 +34,8 @@ def read_design(path: str | Path) -> Design:
         return kicad_netlist.read(text, p, digest)
     if kicad_xml.looks_like(text):
         return kicad_xml.read(text, p, digest)
+    if kicad_board.looks_like(text):
+        return kicad_board.read(text, p, digest)
     if text.lstrip().startswith("(kicad_sch") or text.lstrip().startswith("(kicad_pcb"):
         raise InputError("a KiCad schematic or board with an unexpected suffix; rename it "
                          ".kicad_sch or pass the project", str(p), 1, 1)

@@ -16,7 +16,7 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..model import Design
-from . import kicad_netlist
+from . import kicad_board, kicad_netlist
 from .common import decode_text, read_bytes
 
 FORMAT = "kicad-project"
@@ -40,6 +40,13 @@ def root_schematic(path: Path) -> Path:
             raise InputError(f"project has no root schematic {sch.name} beside it", str(path))
         return sch
     return path
+
+
+def board_beside(sch: Path):
+    """The routed geometry of the project's board (``<root name>.kicad_pcb`` beside the root
+    schematic), or None when there is none. Its nets are matched to the schematic's by name."""
+    pcb = sch.with_suffix(".kicad_pcb")
+    return kicad_board.read_board(pcb) if pcb.is_file() else None
 
 
 def kicad_cli() -> str | None:
@@ -81,7 +88,8 @@ def read(path: Path, timeout_s: float = 300.0) -> Design:
             raise InputError(f"kicad-cli could not export the netlist ({why})", str(sch))
         data = read_bytes(out)
         design = kicad_netlist.read(decode_text(data, out), out, "")
-    return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch))
+    return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch),
+                               board=board_beside(sch))
 
 
 _GENERATOR = re.compile(r'\(generator_version\s+"?(\d+)(?:\.(\d+))?')
