@@ -40,9 +40,16 @@ def cli() -> None:
     """
 
 
-def _load_audit(path: Path, config: Path | None, mode: str | None):
+def _load_audit(path: Path, config: Path | None, mode: str | None, use_kicad_cli: bool = False):
     from .audit import audit
-    return audit(path, config, mode)
+    from .readers import kicad_cli_route
+
+    with kicad_cli_route(use_kicad_cli):
+        return audit(path, config, mode)
+
+
+_KICAD_CLI_HELP = ("Read a project or schematic through KiCad's own netlist export (kicad-cli) "
+                   "instead of netaudit's schematic reader.")
 
 
 @cli.command()
@@ -58,9 +65,10 @@ def _load_audit(path: Path, config: Path | None, mode: str | None):
 @click.option("--junit", "junit_out", metavar="OUT", help="Write JUnit XML, a test per rule and segment (- for stdout).")
 @click.option("--markdown", "markdown_out", metavar="OUT", help="Write a Markdown summary (- for stdout).")
 @click.option("--quiet", is_flag=True, help="No text summary on the terminal.")
+@click.option("--use-kicad-cli", "use_kicad_cli", is_flag=True, help=_KICAD_CLI_HELP)
 def check(path: Path, config: Path | None, mode: str | None, fail_on: str, json_out: str | None,
           html_out: str | None, sarif_out: str | None, junit_out: str | None, markdown_out: str | None,
-          quiet: bool) -> None:
+          quiet: bool, use_kicad_cli: bool) -> None:
     """Audit the design at PATH (netlist, XML netlist, project, schematic or folder).
 
     Set SOURCE_DATE_EPOCH to fix the run date written into the HTML, SARIF, JUnit and
@@ -84,7 +92,7 @@ def check(path: Path, config: Path | None, mode: str | None, fail_on: str, json_
         from .report import sarif as sarif_report
 
         when = html_report.run_date()      # a bad SOURCE_DATE_EPOCH stops before any work
-    result = _load_audit(path, config, mode)
+    result = _load_audit(path, config, mode, use_kicad_cli)
     if json_out:
         write_output(json_out, json_report.render(result))
     if release:
@@ -109,12 +117,13 @@ def exit_code(result, fail_on: str) -> int:
 @click.argument("path", type=click.Path(path_type=Path))
 @click.option("--config", "config", type=click.Path(path_type=Path), metavar="FILE")
 @click.option("--json", "as_json", is_flag=True, help="Print the inventory as JSON.")
-def buses(path: Path, config: Path | None, as_json: bool) -> None:
+@click.option("--use-kicad-cli", "use_kicad_cli", is_flag=True, help=_KICAD_CLI_HELP)
+def buses(path: Path, config: Path | None, as_json: bool, use_kicad_cli: bool) -> None:
     """Inventory: buses, segments, lines, devices and pull-ups found in PATH."""
     from .report import json as json_report
     from .report import text as text_report
 
-    result = _load_audit(path, config, None)
+    result = _load_audit(path, config, None, use_kicad_cli)
     if as_json:
         doc = json_report.report(result)
         inventory = {k: doc[k] for k in ("schema", "tool", "design", "rails", "buses")}

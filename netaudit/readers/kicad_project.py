@@ -1,7 +1,10 @@
 """KiCad projects and schematics (``.kicad_pro``, root ``.kicad_sch``, a folder).
 
-The netlist is exported with KiCad's own ``kicad-cli`` into a temporary folder and read
-with the netlist reader. The design files are only read.
+By default the schematics are read by netaudit's own reader (``kicad_schematic``), which
+needs no KiCad installed and gives the Design KiCad's netlist export would give. With
+``use_kicad_cli`` the netlist is exported by KiCad's own ``kicad-cli`` into a temporary
+folder and read with the netlist reader. Both routes give the same Design (path, format
+and digest included); the design files are only read.
 """
 
 from __future__ import annotations
@@ -16,7 +19,7 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..model import Design
-from . import kicad_board, kicad_netlist
+from . import kicad_board, kicad_netlist, kicad_schematic
 from .common import decode_text, read_bytes
 
 FORMAT = "kicad-project"
@@ -61,10 +64,20 @@ def project_digest(sch: Path) -> str:
     return h.hexdigest()
 
 
-def read(path: Path, timeout_s: float = 300.0) -> Design:
+def read(path: Path, timeout_s: float = 300.0, use_kicad_cli: bool = False) -> Design:
     sch = root_schematic(path)
     if not sch.is_file():
         raise InputError("no such schematic", str(sch))
+    if use_kicad_cli:
+        design = _export(path, sch, timeout_s)
+    else:
+        design = kicad_schematic.read(sch)
+    return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch),
+                               board=board_beside(sch))
+
+
+def _export(path: Path, sch: Path, timeout_s: float) -> Design:
+    """The Design of KiCad's own netlist export (kicad-cli) of the schematic ``sch``."""
     cli = kicad_cli()
     if cli is None:
         raise InputError(f"reading a schematic needs kicad-cli, which is not installed: {EXPORT_HINT}",
@@ -72,10 +85,13 @@ def read(path: Path, timeout_s: float = 300.0) -> Design:
     with tempfile.TemporaryDirectory(prefix="netaudit-") as tmp:
         out = Path(tmp) / "export.net"
         try:
+            # Run in the schematic's folder with its bare name, as KiCad's own editor names
+            # the root sheet file (the netlist's Sheetfile of root-sheet parts).
             proc = subprocess.run(
                 [cli, "sch", "export", "netlist", "--format", "kicadsexpr", "-o", str(out),
-                 str(sch.resolve())],
-                capture_output=True, text=True, timeout=timeout_s, check=False)
+                 sch.name],
+                capture_output=True, text=True, timeout=timeout_s, check=False,
+                cwd=str(sch.resolve().parent))
         except subprocess.TimeoutExpired:
             raise InputError(f"kicad-cli took longer than {timeout_s:.0f} s to export the netlist",
                              str(sch)) from None
@@ -87,9 +103,7 @@ def read(path: Path, timeout_s: float = 300.0) -> Design:
                 raise InputError(f"kicad-cli could not export the netlist ({why}): {newer}", str(sch))
             raise InputError(f"kicad-cli could not export the netlist ({why})", str(sch))
         data = read_bytes(out)
-        design = kicad_netlist.read(decode_text(data, out), out, "")
-    return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch),
-                               board=board_beside(sch))
+        return kicad_netlist.read(decode_text(data, out), out, "")
 
 
 _GENERATOR = re.compile(r'\(generator_version\s+"?(\d+)(?:\.(\d+))?')
