@@ -106,26 +106,38 @@ def _sheet(node: list) -> Sheet:
 
 
 def _part(c: list, libpins: dict, sheet_files: dict[str, str]) -> Part:
+    """One ``(comp ...)``, read in a single pass over its children."""
+    atoms: dict[str, str] = {}
     fields: list[tuple[str, str]] = []
-    fields_node = sexpr.child(c, "fields")
-    if fields_node is not None:
-        for f in sexpr.children(fields_node, "field"):
-            name = sexpr.value(f, "name")
-            text = next((x for x in f[1:] if isinstance(x, str)), "")
-            fields.append((name, text))
-    props = {}
-    for p in sexpr.children(c, "property"):
-        props[sexpr.value(p, "name")] = sexpr.value(p, "value")
-    libsource = sexpr.child(c, "libsource") or ["libsource"]
-    lib, lib_part = sexpr.value(libsource, "lib"), sexpr.value(libsource, "part")
-    sheetpath = sexpr.child(c, "sheetpath") or ["sheetpath"]
-    sheet_path = sexpr.value(sheetpath, "names", "/")
-    sheet_file = props.get("Sheetfile") or sheet_files.get(sheet_path, "")
+    props: dict[str, str] = {}
+    libsource: dict[str, str] = {}
+    sheet_path = "/"
+    for ch in c[1:]:
+        if type(ch) is not list or not ch:
+            continue
+        key = ch[0]
+        if key == "fields":
+            for f in ch[1:]:
+                if type(f) is list and f and f[0] == "field":
+                    name = _atoms(f).get("name", "")
+                    text = next((x for x in f[1:] if isinstance(x, str)), "")
+                    fields.append((name, text))
+        elif key == "property":
+            pa = _atoms(ch)
+            props[pa.get("name", "")] = pa.get("value", "")
+        elif key == "libsource":
+            if not libsource:
+                libsource = _atoms(ch)
+        elif key == "sheetpath":
+            sheet_path = _atoms(ch).get("names", "/")
+        elif len(ch) > 1 and type(ch[1]) is str and key not in atoms:
+            atoms[key] = ch[1]
+    lib, lib_part = libsource.get("lib", ""), libsource.get("part", "")
     return Part(
-        ref=sexpr.value(c, "ref"), value=sexpr.value(c, "value"),
-        footprint=sexpr.value(c, "footprint"), lib=lib, lib_part=lib_part,
-        description=sexpr.value(libsource, "description"),
+        ref=atoms.get("ref", ""), value=atoms.get("value", ""),
+        footprint=atoms.get("footprint", ""), lib=lib, lib_part=lib_part,
+        description=libsource.get("description", ""),
         fields=tuple(fields), dnp="dnp" in props, exclude_from_bom="exclude_from_bom" in props,
-        sheet_path=sheet_path, sheet_file=sheet_file,
+        sheet_path=sheet_path, sheet_file=props.get("Sheetfile") or sheet_files.get(sheet_path, ""),
         pins=libpins.get((lib, lib_part), ()),
     )
