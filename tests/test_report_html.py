@@ -159,7 +159,7 @@ def test_demo_report_in_chromium_shows_every_finding_every_bus_diagram_and_the_a
     assert len(shown) == len(result.findings)
     for bus in result.buses:
         assert len(dom.having("svg", **{"class": "bus-diagram", "data_bus": bus.name})) == 1, bus.name
-    domains = [d.name for b in result.buses for d in html.address_domains(b)]
+    domains = [d.name for b in result.buses for d in html.address_domains(b, result.address_domains)]
     # the demo's mux U401 makes four channel domains beside the three buses' own (CONTRACT.md topology)
     assert len(domains) == 3 + 4
     for name in domains:
@@ -168,7 +168,7 @@ def test_demo_report_in_chromium_shows_every_finding_every_bus_diagram_and_the_a
     assert not dom.having("script")
     # every address the audit knows is drawn as taken in its domain's map
     for bus in result.buses:
-        for dom_ in html.address_domains(bus):
+        for dom_ in html.address_domains(bus, result.address_domains):
             svg_text = svg.address_map(dom_.name, dom_.local, dom_.upstream)
             cells = {a["data-address"]: a["class"].split()[1] for a in _dom(svg_text).having("g", **{"class": "cell"})}
             for d in dom_.local + dom_.upstream:

@@ -107,19 +107,24 @@ class Domain:
     upstream: tuple[Device, ...]
 
 
-def address_domains(bus: Bus) -> list[Domain]:
-    """The address domains of one bus, named by the path of multiplexer channels to them."""
+def address_domains(bus: Bus, stored=()) -> list[Domain]:
+    """The address domains of one bus, named by the path of multiplexer channels to them.
+
+    ``stored`` is ``Audit.address_domains`` (worked out by the pipeline); an Audit made
+    without them (by hand, in tests) gets them from netaudit.addressing here.
+    """
     from ..addressing import address_domains as domains_of
     from ..addressing import home_zones, zones
 
     zone_map, _zone_of = zones(bus)
     home = home_zones(bus)
+    mine = [d for d in stored if d.bus == bus.name] or domains_of([bus])
     out = []
-    for dom in domains_of([bus]):
+    for dom in mine:
         name = bus.name
         for zid in reversed(dom.zones):
-            zone = zone_map[zid]
-            if zone.mux is not None:
+            zone = zone_map.get(zid)
+            if zone is not None and zone.mux is not None:
                 name += f" → {zone.mux}" + (f" channel {zone.channel}" if zone.channel is not None else "")
         out.append(Domain(name=name, bus=bus.name,
                           local=tuple(d for d in dom.devices if home.get(d.ref) == dom.id),
@@ -238,7 +243,7 @@ def context(audit: Audit, when: datetime) -> dict:
         })
     domains = []
     for bus in audit.buses:
-        for dom in address_domains(bus):
+        for dom in address_domains(bus, audit.address_domains):
             everyone = dom.local + dom.upstream
             domains.append({
                 "name": dom.name, "bus": dom.bus,
