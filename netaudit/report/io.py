@@ -18,6 +18,12 @@ def write_output(target: str, text: str) -> None:
     write_atomic(Path(target), text)
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def write_atomic(path: Path, text: str) -> None:
     """Write ``text`` to ``path`` so readers see the old file or the whole new one."""
     folder = path.parent if str(path.parent) else Path(".")
@@ -29,6 +35,7 @@ def write_atomic(path: Path, text: str) -> None:
     try:
         with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
+        os.chmod(tmp, 0o666 & ~_umask())   # mkstemp makes 0600; a report is an ordinary file
         os.replace(tmp, path)
     except OSError as exc:
         try:
