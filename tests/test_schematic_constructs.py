@@ -8,11 +8,14 @@ tests compare each fixture with a fresh kicad-cli export when KiCad is installed
 
 from __future__ import annotations
 
+import re
 import shutil
 import subprocess
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from conftest import REPO_ROOT, cli_env, run_cli
 from netaudit.errors import InputError
@@ -44,7 +47,7 @@ def net_of(d, ref: str, pin: str) -> str:
 
 # -- wires and junctions (wires_junctions) ----------------------------------------------
 
-def test_junction_on_the_middle_of_a_wire_connects_a_tee():
+def test_junction_where_a_wire_ends_on_a_split_wire_connects_a_tee():
     assert pins_of(design("wires_junctions"), "Net-(R1-Pad1)") == {"R1.1", "R2.1"}
 
 
@@ -60,7 +63,7 @@ def test_crossing_wires_connect_only_with_a_junction():
     assert pins_of(d, "Net-(R7-Pad1)") == {"R7.1", "R8.1"}
 
 
-def test_pin_tip_on_the_middle_of_a_wire_connects_only_with_a_junction():
+def test_pin_tip_on_the_middle_of_a_wire_connects_only_where_the_wire_is_split():
     d = design("wires_junctions")
     assert pins_of(d, "unconnected-(R9-Pad1)") == {"R9.1"}
     assert pins_of(d, "Net-(R11-Pad1)") == {"R11.1", "R12.1"}
@@ -374,8 +377,8 @@ def write(tmp_path: Path, items: str, version: int = 20250114, libs: str = "") -
     return path
 
 
-def symbol(ref: str, angle: int = 0) -> str:
-    return (f'(symbol (lib_id "Device:R") (at 50.8 50.8 {angle}) (unit 1) (uuid "u-{ref}") '
+def symbol(ref: str, angle: int = 0, x: float = 50.8, y: float = 50.8) -> str:
+    return (f'(symbol (lib_id "Device:R") (at {x} {y} {angle}) (unit 1) (uuid "u-{ref}") '
             f'(property "Reference" "{ref}" (at 0 0 0)) (property "Value" "1k" (at 0 0 0)) '
             f'(instances (project "p" (path "/5a11e5a1-0000-4000-8000-0000000000ee" '
             f'(reference "{ref}") (unit 1)))))')
@@ -402,6 +405,41 @@ def test_symbol_without_embedded_library_symbol_is_refused_naming_it(tmp_path):
     with pytest.raises(InputError, match=r"board.kicad_sch:3:\d+: symbol R1 \(Device:R\) has no "
                                          "library symbol"):
         kicad_schematic.read(write(tmp_path, symbol("R1")))
+
+
+# A crossing with a junction dot but neither wire split there, pins at all four ends:
+# KiCad's editor splits both wires at the dot when it saves, joining all four pins;
+# kicad-cli 9.0.8 keeps each wire only from its start to the dot.
+CROSSING = ('(wire (pts (xy 50.8 40.64) (xy 50.8 60.96)) (uuid "w1")) '
+            '(wire (pts (xy 40.64 50.8) (xy 60.96 50.8)) (uuid "w2")) '
+            '(junction (at 50.8 50.8) (uuid "j1")) ' + symbol("RT", 0, 50.8, 36.83)
+            + symbol("RB", 0, 50.8, 64.77) + symbol("RL", 90, 36.83, 50.8)
+            + symbol("RR", 90, 64.77, 50.8))
+
+
+def test_junction_on_the_middle_of_a_wire_is_refused_naming_its_place(tmp_path):
+    path = write(tmp_path, CROSSING, libs=R_LIB)
+    with pytest.raises(InputError, match=r"a junction sits on the middle of a wire at "
+                                         r"\(50.8, 50.8\) mm.*--use-kicad-cli") as info:
+        kicad_schematic.read(path)
+    line = path.read_text(encoding="utf-8").splitlines()[info.value.line - 1]
+    assert '(junction (at 50.8 50.8)' in line[:info.value.column + 10]
+
+
+def test_kicad_cli_keeps_a_wire_split_by_a_junction_only_up_to_the_dot(kicad_cli, tmp_path):
+    # Why the reader refuses the sheet above: KiCad's two tools read it differently.
+    theirs = kicad_export(kicad_cli, write(tmp_path, CROSSING, libs=R_LIB), tmp_path / "x.net")
+    joined = [sorted(f"{n.ref}.{n.pin}" for n in net.nodes) for net in theirs.nets
+              if len(net.nodes) > 1]
+    assert joined == [["RL.2", "RT.2"]]
+
+
+def test_bus_entry_ending_on_the_middle_of_a_wire_is_refused(tmp_path):
+    items = ('(wire (pts (xy 62.23 45.72) (xy 76.2 45.72)) (uuid "w1")) '
+             '(bus_entry (at 60.96 43.18) (size 2.54 2.54) (uuid "e1"))')
+    with pytest.raises(InputError, match=r"a bus entry ends on the middle of a wire at "
+                                         r"\(63.5, 45.72\) mm"):
+        kicad_schematic.read(write(tmp_path, items))
 
 
 def test_unannotated_symbol_is_refused(tmp_path):
@@ -435,6 +473,29 @@ def test_two_global_names_joined_through_the_hierarchy_are_refused(tmp_path):
              '(global_label "MAIN" (shape input) (at 50 12 0) (uuid "g2"))')
     with pytest.raises(InputError, match="MAIN, OTHER.*--use-kicad-cli"):
         kicad_schematic.read(write(tmp_path, items))
+
+
+_EDITS = ["", "x", "nan", "1e999", "-3", "(", ")", '"']
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(data=st.data())
+def test_damaged_schematic_gives_a_design_or_an_input_error_never_a_crash(tmp_path_factory, data):
+    name = data.draw(st.sampled_from(NAMES))
+    folder = tmp_path_factory.mktemp("damaged") / name
+    shutil.copytree(FIXTURES / name, folder)
+    target = data.draw(st.sampled_from(sorted(folder.glob("*.kicad_sch"))))
+    text = target.read_text(encoding="utf-8")
+    tokens = [m.span() for m in re.finditer(r'[^\s()"]+|"[^"]*"|[()]', text)]
+    for _ in range(data.draw(st.integers(1, 3))):
+        start, end = data.draw(st.sampled_from(tokens))
+        text = text[:start] + data.draw(st.sampled_from(_EDITS)) + text[end:]
+        tokens = [m.span() for m in re.finditer(r'[^\s()"]+|"[^"]*"|[()]', text)]
+    target.write_text(text, encoding="utf-8")
+    try:
+        kicad_schematic.read(folder / f"{name}.kicad_sch")
+    except InputError as exc:
+        assert "\n" not in str(exc)
 
 
 # -- reading projects and the command line -------------------------------------------------

@@ -13,6 +13,7 @@ from .nets import (GLOBAL, HIER, K_LABEL, K_PIN, K_SHEETPIN, LOCAL, PIN, POWER, 
                    Driver, Sub)
 from .project import ProjectSettings
 from .sheetfile import where
+from .textvars import resolve as resolve_vars
 
 # KiCad 7's last format before power symbols took their net name from the value field.
 POWER_VALUE_FIX_BEFORE = 20230221
@@ -163,7 +164,10 @@ class Engine:
                     raise InputError("a local power symbol (power local) is not followed by "
                                      "this reader; use --use-kicad-cli", sf.path,
                                      *where(sf, si.sym.uuid))
-                name = netname_escape(si.value if si.lib.power else use.pp.pin.name)
+                value = si.value
+                if si.lib.power and "${" in value:
+                    value = resolve_vars(value, si, self)
+                name = netname_escape(value if si.lib.power else use.pp.pin.name)
                 sub.drivers.append(Driver(K_PIN, POWER, name, use, bool(si.lib.power)))
             elif si.annotated:
                 namer = (lambda u=use, s=sub: self.pin_net_name(u, s.no_connect))

@@ -9,15 +9,18 @@ sheets in ``fixtures/schematics``:
 * A wire end on the middle of another wire, a pin tip on the middle of a wire, and
   wires crossing without a junction do not connect; overlapping collinear wires do not
   connect either.
-* A junction on the middle of a wire or bus splits it there, so what meets at the
-  junction connects.
+* A junction on the middle of a wire, or a bus entry ending on the middle of a wire, is
+  refused: KiCad's editor splits the wire there when it saves (so files it saves never
+  hold one), while kicad-cli 9.0.8 keeps only the part of the wire from its start to that
+  point, dropping what hangs on the rest. The two KiCad tools disagree, so the reader
+  names the place and stops. A junction on the middle of a bus is refused likewise.
 * A label (local, global, hierarchical or net-class flag) on the middle of a wire or bus
   connects to it, unless a pin, another label, a sheet pin or a no-connect flag sits
   exactly at the label; a label on two or more lines connects to all of them. A sheet pin
   on the middle of one wire connects to it.
 * A pin of electrical type "not connected" connects to nothing.
-* A bus entry's end that lies on a bus connects to nothing (the entry belongs to the net
-  side); its other end connects like a wire end, and splits a wire it lands on.
+* A bus entry's end that lies on a bus (end or middle) connects to nothing (the entry
+  belongs to the net side); its other end connects like a wire end.
 """
 
 from __future__ import annotations
@@ -111,32 +114,28 @@ class _Lines:
         found += [i for i in self.other if _on_segment(x, y, segs[i], interior)]
         return found
 
-    def split_at(self, points) -> None:
-        """Split every segment at each of ``points`` lying strictly inside it."""
-        changed = False
-        for x, y in points:
-            for i in self.through(x, y, True):
-                x1, y1, x2, y2 = self.segments[i]
-                self.segments[i] = (x1, y1, x, y)
-                self.segments.append((x, y, x2, y2))
-                changed = True
-            if changed:
-                self._index()
-                changed = False
-
 
 def connect(sf: SheetFile, pins: list[PlacedPin]) -> list[Group]:
     """The connected groups of one sheet file."""
     entries = sf.bus_entries
-    split_points = set(sf.junctions)
-    for x1, y1, x2, y2 in entries:
-        split_points.add((x1, y1))
-        split_points.add((x2, y2))
     wires = _Lines(sf.wires)
     buses = _Lines(sf.buses)
-    if split_points:
-        wires.split_at(sorted(split_points))
-        buses.split_at(sorted(split_points))
+    for (x, y), uuid in zip(sf.junctions, sf.junction_uuids):
+        if wires.through(x, y, True) or buses.through(x, y, True):
+            line = "wire" if wires.through(x, y, True) else "bus"
+            raise InputError(f"a junction sits on the middle of a {line} at ({x / 1e4:g}, "
+                             f"{y / 1e4:g}) mm; KiCad's editor splits the line "
+                             "there on saving but kicad-cli 9 reads such a file differently: open "
+                             "and save the sheet in KiCad, or use --use-kicad-cli",
+                             sf.path, *where(sf, uuid))
+    for e, uuid in zip(entries, sf.bus_entry_uuids):
+        for x, y in ((e[0], e[1]), (e[2], e[3])):
+            if wires.through(x, y, True) and not buses.through(x, y, False):
+                raise InputError(f"a bus entry ends on the middle of a wire at ({x / 1e4:g}, "
+                                 f"{y / 1e4:g}) mm; KiCad's editor splits the wire there on "
+                                 "saving but kicad-cli 9 reads such a file differently: open and "
+                                 "save the sheet in KiCad, or use --use-kicad-cli",
+                                 sf.path, *where(sf, uuid))
 
     kind: list[int] = []
     ref: list = []

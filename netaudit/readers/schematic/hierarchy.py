@@ -74,6 +74,10 @@ class Hierarchy:
             order.append(inst)
             children = []
             for ref in sf.sheets:
+                if "${" in ref.name:
+                    raise InputError(f"sheet name {ref.name} uses a text variable, which this "
+                                     "reader does not expand in net names; use --use-kicad-cli",
+                                     sf.path, *where(sf, ref.uuid))
                 path = Path(sf.path).parent / ref.file.replace("\\", "/")
                 if path.resolve() in chain:
                     raise InputError(f"sheet \"{ref.name}\" ({ref.file}) contains itself",

@@ -29,9 +29,15 @@ _ROT_CW = (0, -1, 1, 0)
 _NORMAL = (1, 0, 0, -1)            # library Y up -> sheet Y down
 
 
+_LIMIT_MM = 214_748.0              # KiCad keeps coordinates in 32-bit internal units
+
+
 def to_iu(text: str) -> int:
     """Millimetres as written in the file -> internal units, rounded as KiCad rounds."""
-    v = float(text) * 10_000.0
+    mm = float(text)
+    if not -_LIMIT_MM <= mm <= _LIMIT_MM:     # also refuses nan
+        raise ValueError(f"coordinate {text} out of range")
+    v = mm * 10_000.0
     return int(v + 0.5) if v >= 0 else -int(-v + 0.5)
 
 
@@ -64,60 +70,71 @@ def parse_tree(tree: list, path: Path, text: str = "") -> SheetFile:
                          "matching KiCad, or pass a netlist exported by it", str(path), 1, 1)
     sf = SheetFile(path=str(path), version=version, uuid="", text=text)
     for item in tree[1:]:
-        if not isinstance(item, list) or not item:
+        if not isinstance(item, list) or not item or not isinstance(item[0], str):
             continue
-        head = item[0]
-        if head == "wire" or head == "bus":
-            pts = _points(item)
-            for a, b in zip(pts, pts[1:]):
-                (sf.wires if head == "wire" else sf.buses).append((a[0], a[1], b[0], b[1]))
-        elif head == "symbol":
-            sf.symbols.append(_symbol(item, path, text))
-        elif head == "junction":
-            sf.junctions.append(_at(item)[:2])
-        elif head in LABEL_KINDS:
-            x, y, _ = _at(item)
-            sf.labels.append(Label(LABEL_KINDS[head], _str(item, 1), x, y,
-                                   _value(item, "shape"), _value(item, "uuid")))
-        elif head == "no_connect":
-            sf.no_connects.append(_at(item)[:2])
-        elif head == "bus_entry":
-            x, y, _ = _at(item)
-            size = _child(item, "size")
-            dx, dy = (to_iu(size[1]), to_iu(size[2])) if size and len(size) > 2 else (0, 0)
-            sf.bus_entries.append((x, y, x + dx, y + dy))
-        elif head == "lib_symbols":
-            for lib in item[1:]:
-                if isinstance(lib, list) and lib and lib[0] == "symbol":
-                    ls = _lib_symbol(lib, path, text)
-                    sf.libs[ls.name] = ls
-        elif head == "sheet":
-            sf.sheets.append(_sheet(item))
-        elif head == "uuid":
-            sf.uuid = _str(item, 1)
-        elif head == "title_block":
-            sf.title = _value(item, "title")
-            sf.revision = _value(item, "rev")
-            sf.company = _value(item, "company")
-        elif head == "bus_alias":
-            members = _child(item, "members") or ["members"]
-            sf.bus_aliases[_str(item, 1)] = [m for m in members[1:] if isinstance(m, str)]
-        elif head == "symbol_instances":
-            for p in item[1:]:
-                if isinstance(p, list) and p and p[0] == "path":
-                    sf.legacy_instances[_str(p, 1)] = Instance(
-                        _value(p, "reference"), _int_value(p, "unit", 1),
-                        _value_or_none(p, "value"), _value_or_none(p, "footprint"))
-        elif head == "sheet_instances":
-            for p in item[1:]:
-                if isinstance(p, list) and p and p[0] == "path":
-                    sf.legacy_pages[_str(p, 1)] = _value(p, "page")
-        elif head == "version" or head in _IGNORED:
-            continue
-        else:
-            raise InputError(f"unknown schematic item ({head} ...) at the top level; "
-                             "use --use-kicad-cli", str(path), *_line_of(text, "(" + head))
+        try:
+            _item(sf, item, path, text)
+        except (ValueError, TypeError, IndexError, AttributeError, OverflowError) as exc:
+            uuid = _value(item, "uuid") if isinstance(item, list) else ""
+            raise InputError(f"unreadable ({item[0]} ...) item: {exc}", str(path),
+                             *_line_of(text, uuid)) from None
     return sf
+
+
+def _item(sf: SheetFile, item: list, path: Path, text: str) -> None:
+    head = item[0]
+    if head == "wire" or head == "bus":
+        pts = _points(item)
+        for a, b in zip(pts, pts[1:]):
+            (sf.wires if head == "wire" else sf.buses).append((a[0], a[1], b[0], b[1]))
+    elif head == "symbol":
+        sf.symbols.append(_symbol(item, path, text))
+    elif head == "junction":
+        sf.junctions.append(_at(item)[:2])
+        sf.junction_uuids.append(_value(item, "uuid"))
+    elif head in LABEL_KINDS:
+        x, y, _ = _at(item)
+        sf.labels.append(Label(LABEL_KINDS[head], _str(item, 1), x, y,
+                               _value(item, "shape"), _value(item, "uuid")))
+    elif head == "no_connect":
+        sf.no_connects.append(_at(item)[:2])
+    elif head == "bus_entry":
+        x, y, _ = _at(item)
+        size = _child(item, "size")
+        dx, dy = (to_iu(size[1]), to_iu(size[2])) if size and len(size) > 2 else (0, 0)
+        sf.bus_entries.append((x, y, x + dx, y + dy))
+        sf.bus_entry_uuids.append(_value(item, "uuid"))
+    elif head == "lib_symbols":
+        for lib in item[1:]:
+            if isinstance(lib, list) and lib and lib[0] == "symbol":
+                ls = _lib_symbol(lib, path, text)
+                sf.libs[ls.name] = ls
+    elif head == "sheet":
+        sf.sheets.append(_sheet(item))
+    elif head == "uuid":
+        sf.uuid = _str(item, 1)
+    elif head == "title_block":
+        sf.title = _value(item, "title")
+        sf.revision = _value(item, "rev")
+        sf.company = _value(item, "company")
+    elif head == "bus_alias":
+        members = _child(item, "members") or ["members"]
+        sf.bus_aliases[_str(item, 1)] = [m for m in members[1:] if isinstance(m, str)]
+    elif head == "symbol_instances":
+        for p in item[1:]:
+            if isinstance(p, list) and p and p[0] == "path":
+                sf.legacy_instances[_str(p, 1)] = Instance(
+                    _value(p, "reference"), _int_value(p, "unit", 1),
+                    _value_or_none(p, "value"), _value_or_none(p, "footprint"))
+    elif head == "sheet_instances":
+        for p in item[1:]:
+            if isinstance(p, list) and p and p[0] == "path":
+                sf.legacy_pages[_str(p, 1)] = _value(p, "page")
+    elif head == "version" or head in _IGNORED:
+        return
+    else:
+        raise InputError(f"unknown schematic item ({head} ...) at the top level; "
+                         "use --use-kicad-cli", str(path), *_line_of(text, "(" + head))
 
 
 # -- items ---------------------------------------------------------------------------
