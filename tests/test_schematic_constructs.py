@@ -146,6 +146,20 @@ def test_auto_name_prefers_a_pin_name_to_a_pad_number():
     assert pins_of(design("power"), "Net-(U1-IN)") == {"R7.1", "U1.1"}
 
 
+# -- two global names on one net (global_names) ----------------------------------------------
+
+def test_two_power_names_on_one_wire_give_the_smaller_name_to_every_net_of_either():
+    d = design("global_names")
+    assert pins_of(d, "+3V3") == {"R1.1", "R2.1"}
+    assert d.net("VCC") is None
+
+
+def test_global_label_beats_a_power_name_wherever_that_power_name_is_used():
+    d = design("global_names")
+    assert pins_of(d, "AUX_RAIL") == {"R3.1", "R4.1"}
+    assert d.net("VAUX") is None
+
+
 # -- hierarchy, a sheet used twice (hierarchy) ---------------------------------------------
 
 def test_label_in_the_parent_names_a_net_through_a_sheet_pin():
@@ -440,6 +454,14 @@ def test_bus_entry_ending_on_the_middle_of_a_wire_is_refused(tmp_path):
     with pytest.raises(InputError, match=r"a bus entry ends on the middle of a wire at "
                                          r"\(63.5, 45.72\) mm"):
         kicad_schematic.read(write(tmp_path, items))
+
+
+def test_sheet_of_a_larger_design_read_as_the_root_is_refused():
+    # KiCad treats its symbols as not annotated (their references belong to the real
+    # root), which silently drops nets named only by pins; the reader says so instead.
+    with pytest.raises(InputError, match="R101 .*no reference for sheet /; .*sheet of a larger "
+                                         "design: read that design's root schematic"):
+        kicad_schematic.read(FIXTURES / "hierarchy" / "child.kicad_sch")
 
 
 def test_unannotated_symbol_is_refused(tmp_path):

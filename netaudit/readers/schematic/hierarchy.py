@@ -114,22 +114,29 @@ class Hierarchy:
         return ""
 
     def instance_of(self, sym: Symbol, inst: SheetInstance) -> Instance:
-        """The reference and unit of a symbol in a sheet instance."""
+        """The reference and unit of a symbol in a sheet instance.
+
+        A symbol with no reference for this instance is refused (unless it is a power or
+        other ``#`` symbol, which never appears in a netlist): KiCad treats it as not
+        annotated and leaves its pins out of net naming, which happens when a sheet of a
+        larger design is opened as if it were the root."""
         if self.legacy:
-            key = "/" + "/".join(inst.uuids + (sym.uuid,))
-            found = self.root.legacy_instances.get(key)
-            if found is not None:
-                return found
+            found = self.root.legacy_instances.get("/" + "/".join(inst.uuids + (sym.uuid,)))
         else:
-            exact = "/" + "/".join((self.root.uuid,) + inst.uuids)
-            found = sym.instances.get(exact)
-            if found is not None:
-                return found
-            tail = "/" + "/".join(inst.uuids)
-            for path, found in sym.instances.items():
-                if _strip_root(path, None) == tail:
-                    return found
-        return Instance(sym.prop("Reference"), sym.unit)
+            found = sym.instances.get("/" + "/".join((self.root.uuid,) + inst.uuids))
+        if found is not None:
+            return found
+        fallback = Instance(sym.prop("Reference"), sym.unit)
+        if fallback.reference.startswith("#"):
+            return fallback
+        if sym.instances:
+            why = ("its references belong to another root sheet, so this file is a sheet of a "
+                   "larger design: read that design's root schematic or project, or")
+        else:
+            why = "annotate the schematic in KiCad, or"
+        raise InputError(f"symbol {fallback.reference} ({sym.lib_id}) has no reference for "
+                         f"sheet {inst.names}; {why} use --use-kicad-cli",
+                         inst.file.path, *where(inst.file, sym.uuid))
 
 
 def _strip_root(path: str, root_uuid: str | None) -> str:
