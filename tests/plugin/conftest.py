@@ -1,0 +1,107 @@
+"""Fixtures for the KiCad plugin tests: KiCad's ``pcbnew`` module, boards loaded through it,
+the plugin package built once per session, and a KiCad-like install of it.
+
+``pcbnew`` is imported into the test's own Python from a folder holding just ``pcbnew.py``
+and ``_pcbnew.so`` (linked from where KiCad installed them), so none of the system Python's
+other packages leak in. Tests skip with the reason when KiCad's module is not there or
+does not load into this Python.
+"""
+
+from __future__ import annotations
+
+import importlib
+import shutil
+import subprocess
+import sys
+import zipfile
+from pathlib import Path
+
+import pytest
+
+REPO_ROOT = Path(__file__).resolve().parents[2]
+PLUGIN_DIR = REPO_ROOT / "plugin"
+ARTIFACTS = REPO_ROOT / "test-artifacts"
+SYSTEM_PYTHON = Path("/usr/bin/python3")   # Debian's Python, the one KiCad 9 on Debian runs
+KICAD_PY_DIRS = (Path("/usr/lib/python3/dist-packages"),)
+
+_BOARDS: dict[str, object] = {}
+
+
+def _kicad_module_files() -> tuple[Path, list[Path]] | None:
+    for folder in KICAD_PY_DIRS:
+        libs = sorted(folder.glob("_pcbnew*.so")) + sorted(folder.glob("_pcbnew*.pyd"))
+        if (folder / "pcbnew.py").is_file() and libs:
+            return folder / "pcbnew.py", libs
+    return None
+
+
+@pytest.fixture(scope="session")
+def pcbnew_api(tmp_path_factory):
+    """KiCad's pcbnew module, imported into this Python; skip when unavailable."""
+    if "pcbnew" in sys.modules:
+        return sys.modules["pcbnew"]
+    files = _kicad_module_files()
+    if files is None:
+        pytest.skip("KiCad's pcbnew module not found (install KiCad 7 or newer; looked in "
+                    + ", ".join(map(str, KICAD_PY_DIRS)) + ")")
+    folder = tmp_path_factory.mktemp("pcbnew_only")
+    module, libs = files
+    (folder / module.name).symlink_to(module)
+    for lib in libs:
+        (folder / lib.name).symlink_to(lib)
+    sys.path.insert(0, str(folder))
+    try:
+        return importlib.import_module("pcbnew")
+    except ImportError as exc:
+        sys.path.remove(str(folder))
+        pytest.skip(f"KiCad's pcbnew module does not load into Python "
+                    f"{sys.version_info.major}.{sys.version_info.minor}: {exc}")
+
+
+@pytest.fixture(scope="session")
+def load_board(pcbnew_api):
+    """Load a board through pcbnew once per session (the plugin never changes it)."""
+    def load(path: Path):
+        key = str(path)
+        if key not in _BOARDS:
+            _BOARDS[key] = pcbnew_api.LoadBoard(key)
+        return _BOARDS[key]
+    return load
+
+
+@pytest.fixture(scope="session")
+def plugin_package(pcbnew_api):
+    """The PCB-editor plugin package from the source tree, imported as KiCad would find it."""
+    if str(PLUGIN_DIR) not in sys.path:
+        sys.path.insert(0, str(PLUGIN_DIR))
+    return importlib.import_module("netaudit_action")
+
+
+@pytest.fixture(scope="session")
+def built_zip(tmp_path_factory) -> Path:
+    """The plugin-manager zip, built once per session by plugin/build_package.py."""
+    out = tmp_path_factory.mktemp("package")
+    proc = subprocess.run([sys.executable, str(PLUGIN_DIR / "build_package.py"), "--out", str(out)],
+                          capture_output=True, text=True, timeout=300, check=False)
+    assert proc.returncode == 0, proc.stderr
+    zips = sorted(out.glob("*.zip"))
+    assert len(zips) == 1, proc.stdout
+    return zips[0]
+
+
+@pytest.fixture(scope="session")
+def kicad_install(built_zip, tmp_path_factory) -> tuple[Path, str]:
+    """The zip unpacked as KiCad's plugin manager lays it out (from memory: plugins/ goes to
+    3rdparty/plugins/<identifier with dots as underscores>/). Returns (the folder KiCad
+    puts on sys.path, the package name it imports)."""
+    import json
+    root = tmp_path_factory.mktemp("kicad3rdparty")
+    unpacked = root / "unpacked"
+    with zipfile.ZipFile(built_zip) as z:
+        z.extractall(unpacked)
+    identifier = json.loads((unpacked / "metadata.json").read_text(encoding="utf-8"))["identifier"]
+    name = identifier.replace(".", "_")
+    plugins = root / "3rdparty" / "plugins"
+    plugins.mkdir(parents=True)
+    shutil.copytree(unpacked / "plugins", plugins / name)
+    return plugins, name
