@@ -18,15 +18,17 @@ from .topology.rails import find_rails
 from .waivers import apply_waivers
 
 
-def audit(path: str | Path, config: Config | str | Path | None = None, mode: str | None = None) -> Audit:
+def audit(path: str | Path, config: Config | str | Path | None = None, mode: str | None = None,
+          *, use_kicad_cli: bool = False) -> Audit:
     """Audit the design at ``path``. ``config`` is a Config, a netaudit.yaml path, or None
-    to use netaudit.yaml beside the design when there is one."""
+    to use netaudit.yaml beside the design when there is one. ``use_kicad_cli``: read a
+    project or schematic through KiCad's own netlist export instead of netaudit's reader."""
     if config is None:
         found = find_config(path)
         config = load_config(found) if found else Config.empty()
     elif not isinstance(config, Config):
         config = load_config(config)
-    return audit_design(read_design(path), config, mode)
+    return audit_design(read_design(path, use_kicad_cli=use_kicad_cli), config, mode)
 
 
 def audit_design(design: Design, config: Config, mode: str | None = None) -> Audit:

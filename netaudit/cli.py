@@ -42,10 +42,8 @@ def cli() -> None:
 
 def _load_audit(path: Path, config: Path | None, mode: str | None, use_kicad_cli: bool = False):
     from .audit import audit
-    from .readers import kicad_cli_route
 
-    with kicad_cli_route(use_kicad_cli):
-        return audit(path, config, mode)
+    return audit(path, config, mode, use_kicad_cli=use_kicad_cli)
 
 
 _KICAD_CLI_HELP = ("Read a project or schematic through KiCad's own netlist export (kicad-cli) "

@@ -35,10 +35,10 @@ def fingerprint(path: Path) -> dict[str, str]:
     return {}
 
 
-def check_refused(path: Path, env: dict | None = None) -> tuple[str, tuple[int, int] | None]:
+def check_refused(path: Path, env: dict | None = None, options: tuple = ()) -> tuple[str, tuple[int, int] | None]:
     """Run ``netaudit check PATH``; assert the one-line refusal; return the message and position."""
     before = fingerprint(path)
-    code, out, err = run_cli(["check", path], env=env)
+    code, out, err = run_cli(["check", path, *options], env=env)
     assert fingerprint(path) == before, "the input changed"
     assert "Traceback" not in err
     assert code == 2, err
@@ -213,7 +213,8 @@ def test_named_pipe_is_refused_without_waiting(tmp_path):
 
 
 def test_project_without_kicad_cli_on_path_says_how_to_export(tmp_path):
-    # A minimal project of our own: the reader looks for kicad-cli before reading the schematic.
+    # A minimal project of our own, read through KiCad's export on request: without kicad-cli
+    # the refusal says how to export a netlist by hand.
     project = tmp_path / "proj"
     project.mkdir()
     write(project / "node.kicad_pro", "{}\n")
@@ -221,7 +222,7 @@ def test_project_without_kicad_cli_on_path_says_how_to_export(tmp_path):
     empty_bin = tmp_path / "bin"
     empty_bin.mkdir()
     env = cli_env(path_dirs=[str(empty_bin)])  # python is started by absolute path
-    err, _ = check_refused(project / "node.kicad_pro", env=env)
+    err, _ = check_refused(project / "node.kicad_pro", env=env, options=("--use-kicad-cli",))
     assert "kicad-cli" in err and "Export" in err and "Netlist" in err and ".net" in err
 
 

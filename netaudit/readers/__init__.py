@@ -4,14 +4,11 @@
 suffix only for KiCad's schematic and project files. Readers only read.
 
 Projects and schematics are read by netaudit's own schematic reader unless KiCad's
-``kicad-cli`` export is asked for: ``read_design(path, use_kicad_cli=True)``, or, around
-code that reads designs itself (``audit()``), ``with kicad_cli_route(True): ...``.
+``kicad-cli`` export is asked for: ``read_design(path, use_kicad_cli=True)``.
 """
 
 from __future__ import annotations
 
-from contextlib import contextmanager
-from contextvars import ContextVar
 from pathlib import Path
 
 from ..errors import InputError
@@ -20,28 +17,12 @@ from . import kicad_board, kicad_netlist, kicad_project, kicad_xml
 from .common import decode_text, read_bytes, sha256
 
 PROJECT_SUFFIXES = {".kicad_pro", ".kicad_sch"}
-_USE_KICAD_CLI: ContextVar[bool] = ContextVar("netaudit_use_kicad_cli", default=False)
-
-
-@contextmanager
-def kicad_cli_route(use_kicad_cli: bool):
-    """Within the block, projects are read through kicad-cli when ``use_kicad_cli``."""
-    token = _USE_KICAD_CLI.set(use_kicad_cli)
-    try:
-        yield
-    finally:
-        _USE_KICAD_CLI.reset(token)
-
-
-def read_design(path: str | Path, use_kicad_cli: bool | None = None) -> Design:
+def read_design(path: str | Path, use_kicad_cli: bool = False) -> Design:
     """Read any supported design file or project folder into a Design.
 
     ``use_kicad_cli`` (projects and schematics only): export the netlist with KiCad's
-    ``kicad-cli`` instead of reading the schematics directly; None means the route set by
-    ``kicad_cli_route`` (netaudit's own reader unless told otherwise)."""
+    ``kicad-cli`` instead of reading the schematics with netaudit's own reader."""
     p = Path(path)
-    if use_kicad_cli is None:
-        use_kicad_cli = _USE_KICAD_CLI.get()
     if p.is_dir() or p.suffix in PROJECT_SUFFIXES:
         if not p.exists():
             raise InputError("no such file or folder", str(p))
