@@ -13,7 +13,7 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..model import Design
-from . import kicad_board, kicad_netlist, kicad_project, kicad_xml
+from . import kicad_board, kicad_netlist, kicad_xml
 from .common import decode_text, read_bytes, sha256
 
 PROJECT_SUFFIXES = {".kicad_pro", ".kicad_sch"}
@@ -26,6 +26,7 @@ def read_design(path: str | Path, use_kicad_cli: bool = False) -> Design:
     if p.is_dir() or p.suffix in PROJECT_SUFFIXES:
         if not p.exists():
             raise InputError("no such file or folder", str(p))
+        from . import kicad_project  # with the schematic engine: only when a project is read
         return kicad_project.read(p, use_kicad_cli=use_kicad_cli)
     if p.suffix == ".kicad_pcb":
         return kicad_board.read_file(p)

@@ -19,7 +19,7 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..model import Design
-from . import kicad_board, kicad_netlist, kicad_schematic
+from . import kicad_board, kicad_netlist
 from .common import decode_text, read_bytes
 
 FORMAT = "kicad-project"
@@ -71,6 +71,7 @@ def read(path: Path, timeout_s: float = 300.0, use_kicad_cli: bool = False) -> D
     if use_kicad_cli:
         design = _export(path, sch, timeout_s)
     else:
+        from . import kicad_schematic  # the engine loads only when a schematic is read
         design = kicad_schematic.read(sch)
     return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch),
                                board=board_beside(sch))
