@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import re
 from pathlib import Path
 
 import pytest
@@ -257,11 +258,14 @@ def test_width_that_is_no_number_is_named_with_its_place(tmp_path):
     assert info.value.column == text.splitlines()[line - 1].index("(width wide)") + 1
 
 
-def test_segment_without_end_is_named(tmp_path):
-    text = board_text(tracks='(segment (start 0 0) (width 0.2) (layer "F.Cu") (net 1))')
-    with pytest.raises(InputError, match="end") as info:
+def test_segment_without_end_is_placed_at_its_uuid(tmp_path):
+    tracks = TRACKS.replace('(end 3 14) (width 0.2) (layer "F.Cu") (net 1) (uuid "b")',
+                            '(width 0.2) (layer "F.Cu") (net 1) (uuid "b")')
+    text = board_text(tracks=tracks)
+    with pytest.raises(InputError, match="has no end") as info:
         kicad_board.read_file(write(tmp_path, text))
-    assert info.value.line is not None
+    line = next(i for i, t in enumerate(text.splitlines(), 1) if '(uuid "b")' in t)
+    assert info.value.line == line
 
 
 def test_schematic_with_board_suffix_is_refused(tmp_path):
@@ -274,3 +278,12 @@ def test_schematic_with_board_suffix_is_refused(tmp_path):
 def test_empty_board_file_is_refused(tmp_path):
     with pytest.raises(InputError, match="empty"):
         kicad_board.read_file(write(tmp_path, "  \n"))
+
+
+def test_check_on_a_broken_board_is_one_line_and_exit_2(tmp_path):
+    from conftest import run_cli
+    path = write(tmp_path, board_text().replace("(width 0.15)", "(width wide)"))
+    code, out, err = run_cli(["check", path])
+    assert (code, out) == (2, "")
+    assert len(err.splitlines()) == 1 and "Traceback" not in err
+    assert re.search(re.escape(str(path)) + r":\d+:\d+: ", err)

@@ -128,6 +128,14 @@ class _Where:
         line, column = sexpr.position(self.text, match.start())
         return InputError(message, self.path, line, column)
 
+    def item_error(self, message: str, item: list) -> InputError:
+        """An error about ``item``, placed at its own ``(uuid ...)`` (or ``tstamp``) when it
+        has one, else at the first item of its kind."""
+        for c in item[1:]:
+            if type(c) is list and len(c) > 1 and c[0] in ("uuid", "tstamp"):
+                return self.error(message, c[0], c[1])
+        return self.error(message, item[0])
+
 
 def _number(text, where: _Where, key: str) -> float:
     if isinstance(text, str):
@@ -186,12 +194,12 @@ def _runs(segments: list, arcs: list, table: dict[str, str], where: _Where) -> t
             if start is None or end is None or width is None or layer is None:
                 missing = [n for n, v in (("start", start), ("end", end), ("width", width),
                                           ("layer", layer)) if v is None]
-                raise where.error(f"{kind} on net {name!r} has no {', '.join(missing)}", kind)
+                raise where.item_error(f"{kind} on net {name!r} has no {', '.join(missing)}", item)
             x1, y1 = _xy(start, where, kind)
             x2, y2 = _xy(end, where, kind)
             if kind == "arc":
                 if mid is None:
-                    raise where.error(f"arc on net {name!r} has no mid point", kind)
+                    raise where.item_error(f"arc on net {name!r} has no mid point", item)
                 length = arc_length(x1, y1, *_xy(mid, where, kind), x2, y2)
             else:
                 length = math.hypot(x2 - x1, y2 - y1)
@@ -256,7 +264,8 @@ def _vias(vias: list, table: dict[str, str], where: _Where) -> tuple[Via, ...]:
         if not name:
             continue
         if size is None or len(layers) != 2:
-            raise where.error(f"via on net {name!r} has no {'size' if size is None else 'two layers'}", "via")
+            raise where.item_error(f"via on net {name!r} has no {'size' if size is None else 'two layers'}",
+                                   item)
         d = _number(size, where, "size")
         h = _number(drill, where, "drill") if drill is not None else 0.0
         key = (name, layers, d, h)

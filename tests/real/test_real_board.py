@@ -16,7 +16,9 @@ from pathlib import Path
 
 import pytest
 
-from conftest import require_real
+from conftest import require_demos, require_real
+from netaudit.audit import audit
+from netaudit.config import Config
 from netaudit.readers import kicad_board
 from netaudit.readers.common import unescape_kicad
 
@@ -107,6 +109,28 @@ def test_stackup_thickness_equals_pcbnew_board_thickness(name):
     assert board.thickness_m == pytest.approx(thickness_m, abs=1e-9)
 
 
+# KiCad 9's own demo boards (Debian package kicad-demos): more layer counts and stackups.
+DEMO_BOARDS = ["video/video.kicad_pcb", "vme-wren/vme-wren.kicad_pcb", "interf_u/interf_u.kicad_pcb",
+               "kit-dev-coldfire-xilinx_5213/kit-dev-coldfire-xilinx_5213.kicad_pcb",
+               "tiny_tapeout/tinytapeout-demo.kicad_pcb", "multichannel/multichannel_mixer.kicad_pcb"]
+
+
+@pytest.mark.parametrize("name", DEMO_BOARDS)
+def test_kicad_demo_boards_match_pcbnew(name):
+    path = require_demos() / name
+    if not path.is_file():
+        pytest.skip(f"KiCad demo {name} not installed")
+    figures = pcbnew_figures(str(path))
+    board = kicad_board.read_board(path)
+    theirs = figures["nets"]
+    assert {n for n, (length, vias) in theirs.items() if length or vias} == board.nets
+    assert all(abs(board.routed_length_m(n) - length * 1e-9) <= TOLERANCE_M and board.via_count(n) == vias
+               for n, (length, vias) in theirs.items())
+    # pcbnew's board thickness is the file's (general (thickness)); interf_u's stackup sums
+    # to 1.6000 mm beside a general thickness of 1.6002 mm, so only this one is compared.
+    assert board.thickness_m == pytest.approx(figures["thickness_nm"] * 1e-9, abs=1e-9)
+
+
 def test_arc_lengths_equal_pcbnew(tmp_path):
     # Our own small board with arcs of several sweeps (real boards here route no arcs), each
     # written as KiCad writes one: start, the arc's midpoint, end, to the nanometre. Each
@@ -140,3 +164,29 @@ def test_arc_lengths_equal_pcbnew(tmp_path):
     assert len(theirs) == len(arcs)
     for net, (length_nm, _vias) in theirs.items():
         assert board.routed_length_m(net) == pytest.approx(length_nm * 1e-9, abs=TOLERANCE_M), net
+
+
+# -- the audit of a board alone against the audit of the schematic's own netlist export --
+
+BOARD_AND_NETLIST = {
+    "bms-c1": ("battery-bms-kicad9/bms-c1.kicad_pcb", "battery-bms-kicad9/netlist-kicad-9.0.8/bms-c1.net"),
+    "glasgow": ("usb-interface-explorer/glasgow.kicad_pcb",
+                "usb-interface-explorer/netlist-kicad-9.0.8/glasgow.net"),
+    "hexpansion": ("event-badge-i2c-mux/hexpansion/hexpansion.kicad_pcb",
+                   "event-badge-i2c-mux/netlist-kicad-9.0.8/hexpansion.net"),
+}
+
+
+def bus_shape(result) -> list:
+    return sorted((bus.name, tuple((line.signal, line.nets, tuple(sorted(p.ref for p in line.pullups)))
+                                   for line in seg.lines), tuple(sorted(d.ref for d in seg.devices)))
+                  for bus in result.buses for seg in bus.segments)
+
+
+@pytest.mark.parametrize("stem", sorted(BOARD_AND_NETLIST))
+def test_board_alone_finds_the_buses_the_schematic_netlist_gives(stem):
+    # Ground truth: the netlist KiCad 9.0.8's kicad-cli exported from the same project.
+    board, netlist = (require_real(p) for p in BOARD_AND_NETLIST[stem])
+    from_board = bus_shape(audit(board, Config.empty()))
+    assert from_board  # every one of these boards carries a bus
+    assert from_board == bus_shape(audit(netlist, Config.empty()))
