@@ -29,5 +29,7 @@ class InputError(Exception):
         return f"{self.path}:{self.line}:{self.column}"
 
     def __str__(self) -> str:
-        text = " ".join(self.message.split())  # always a single line
-        return f"{self.where}: {text}" if self.where else text
+        from .terminal import visible
+
+        text = " ".join(self.message.split())  # always a single line, printable as it is
+        return visible(f"{self.where}: {text}" if self.where else text)

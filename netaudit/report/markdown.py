@@ -13,6 +13,7 @@ from datetime import datetime, timezone
 
 from .. import __version__
 from ..results import Audit, Finding
+from ..terminal import visible
 from .html import run_date, where
 from .json import CAUTION
 from .messages import phrase
@@ -23,10 +24,11 @@ _PUNCT = re.compile(r"([\\`*_\[\]|~$])")
 
 def md(text) -> str:
     """Escape text for Markdown (CommonMark and GitHub's tables): HTML characters become
-    entities, Markdown punctuation gets a backslash, line breaks become spaces."""
+    entities, Markdown punctuation gets a backslash, line breaks become spaces, and other
+    characters that act on a terminal (the file may be printed in a CI log) show as escapes."""
     text = "" if text is None else str(text)
     text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-    text = " ".join(text.split())
+    text = visible(" ".join(text.split()))
     return _PUNCT.sub(r"\\\1", text)
 
 

@@ -8,6 +8,7 @@ from typing import Callable
 from .. import __version__
 from ..addressing import address_map
 from ..results import Audit, Finding, Line, Segment, Severity
+from ..terminal import visible
 from ..units import format_si
 from .json import CAUTION
 from .messages import phrase
@@ -25,11 +26,11 @@ def _fmt(v, unit: str) -> str:
 
 def _line_row(line: Line) -> str:
     name = "SDA" if line.signal == "sda" else "SCL"
-    nets = ", ".join(line.nets)
+    nets = visible(", ".join(line.nets))
     pulls = []
     for p in line.pullups:
         tag = "" if p.fitted else " (not fitted)"
-        pulls.append(f"{p.ref} {_fmt(p.ohms, 'Ω')} to {p.rail}{tag}")
+        pulls.append(visible(f"{p.ref} {_fmt(p.ohms, 'Ω')} to {p.rail}{tag}"))
     row = f"    {name}  {nets}\n      pull-ups: {'; '.join(pulls) or 'none'}"
     b = line.budget
     if b is not None and b.capacitance_farads is not None:
@@ -51,7 +52,7 @@ def _notes(seg: Segment) -> list[str]:
         for note in (line.budget.notes if line.budget else ()):
             if note not in seen:
                 seen.append(note)
-    return [f"    note: {n}" for n in seen]
+    return [f"    note: {visible(n)}" for n in seen]
 
 
 def _segment_head(seg: Segment) -> str:
@@ -61,7 +62,7 @@ def _segment_head(seg: Segment) -> str:
         if seg.upstream.channel is not None:
             via += f" channel {seg.upstream.channel}"
         head += f"  (behind {via})"
-    return head
+    return visible(head)
 
 
 def _device_row(seg: Segment) -> str:
@@ -73,7 +74,7 @@ def _device_row(seg: Segment) -> str:
         if d.io_rail:
             extra.append(f"{d.io_rail} {_fmt(d.io_volts, 'V')}")
         items.append(f"{d.ref} {d.value} ({', '.join(extra)})")
-    return "    devices: " + ("; ".join(items) or "none")
+    return visible("    devices: " + ("; ".join(items) or "none"))
 
 
 def _address_rows(maps: list[dict]) -> list[str]:
@@ -89,7 +90,7 @@ def _address_rows(maps: list[dict]) -> list[str]:
         items = [f"{d['address'] or '?'} {d['ref']}" + (" (clash)" if d["ref"] in clashing else "")
                  for d in own]
         scope = f" (plus {m['zones'][1]})" if len(m["zones"]) > 1 else ""
-        rows.append(f"  addresses on {m['id']}{scope}: " + (", ".join(items) or "none"))
+        rows.append(visible(f"  addresses on {m['id']}{scope}: " + (", ".join(items) or "none")))
     return rows
 
 
@@ -103,13 +104,13 @@ def render(audit: Audit, colour: bool = False) -> str:
 
     def flag(f: Finding) -> str:
         word = f"{f.severity.value}:"
-        return f"{style(word, fg=_COLOURS[f.severity], bold=True)} {phrase(f)}  [{f.rule}]"
+        return f"{style(word, fg=_COLOURS[f.severity], bold=True)} {visible(phrase(f))}  [{f.rule}]"
 
     d = audit.design
     c = audit.counts()
-    out = [f"netaudit {__version__}: {os.path.basename(d.path.rstrip('/'))} ({d.format}"
-           + (f", KiCad {d.kicad_version}" if d.kicad_version else "") + ")"
-           + (f" \"{d.title}\"" if d.title else "") + (f" rev {d.revision}" if d.revision else "")]
+    out = [visible(f"netaudit {__version__}: {os.path.basename(d.path.rstrip('/'))} ({d.format}"
+                   + (f", KiCad {d.kicad_version}" if d.kicad_version else "") + ")"
+                   + (f" \"{d.title}\"" if d.title else "") + (f" rev {d.revision}" if d.revision else ""))]
     out.append(f"mode {audit.mode}; {_plural(c['buses'], 'bus')}, {_plural(c['segments'], 'segment')}; "
                f"{_plural(c['errors'], 'error')}, {_plural(c['warnings'], 'warning')}, {c['infos']} info, "
                f"{c['waived']} waived")
@@ -117,7 +118,7 @@ def render(audit: Audit, colour: bool = False) -> str:
     maps = address_map(audit)
     for bus in audit.buses:
         out.append("")
-        out.append(style(f"{bus.name}", bold=True) + f"  ({bus.mode}, found by {bus.evidence})")
+        out.append(style(visible(bus.name), bold=True) + visible(f"  ({bus.mode}, found by {bus.evidence})"))
         for seg in bus.segments:
             out.append(_segment_head(seg))
             out.append(_device_row(seg))
@@ -140,7 +141,8 @@ def render(audit: Audit, colour: bool = False) -> str:
     if waived:
         out.append("")
         out.append("Waived:")
-        out.extend(f"  {f.severity.value}: {phrase(f)}  [{f.rule}] (reason: {f.waiver_reason})" for f in waived)
+        out.extend(visible(f"  {f.severity.value}: {phrase(f)}  [{f.rule}] (reason: {f.waiver_reason})")
+                   for f in waived)
     out.append("")
     out.append(CAUTION)
     return "\n".join(out) + "\n"
@@ -150,7 +152,7 @@ def render_inventory(audit: Audit) -> str:
     """Buses, segments, devices and lines, without findings."""
     out = []
     for bus in audit.buses:
-        out.append(f"{bus.name}  ({bus.mode}, found by {bus.evidence})")
+        out.append(visible(f"{bus.name}  ({bus.mode}, found by {bus.evidence})"))
         for seg in bus.segments:
             out.append(_segment_head(seg))
             out.append(_device_row(seg))
