@@ -209,6 +209,8 @@ def find_config(design_path: str | Path) -> Path | None:
 def load_config(path: str | Path) -> Config:
     p = Path(path)
     try:
+        if p.exists() and not p.is_dir() and not p.is_file():
+            raise InputError("config path is not a regular file", str(p))  # a pipe would block
         data = p.read_bytes()
     except FileNotFoundError:
         raise InputError("config file not found", str(p)) from None
@@ -216,11 +218,15 @@ def load_config(path: str | Path) -> Config:
         raise InputError("config path is a folder, not a file", str(p)) from None
     except OSError as exc:
         raise InputError(f"cannot read config file: {exc.strerror}", str(p)) from None
+    body = data[3:] if data.startswith(b"\xef\xbb\xbf") else data
     try:
-        text = data.decode("utf-8-sig")
+        text = body.decode("utf-8")
     except UnicodeDecodeError as exc:
-        raise InputError(f"config is not UTF-8 text (bad byte at offset {exc.start})",
-                         str(p)) from None
+        start = exc.start + len(data) - len(body)
+        line_start = data.rfind(b"\n", 0, start) + 1
+        column = len(data[line_start:start].decode("utf-8", "replace")) + 1
+        raise InputError(f"config is not UTF-8 text (byte 0x{data[start]:02X}); save it as UTF-8",
+                         str(p), data.count(b"\n", 0, start) + 1, column) from None
     return parse_config(text, str(p), sha256=hashlib.sha256(data).hexdigest())
 
 
@@ -229,6 +235,7 @@ def parse_config(text: str, path: str | Path | None = None, *,
     where = None if path is None else str(path)
     digest = sha256 or hashlib.sha256(text.encode("utf-8")).hexdigest()
     try:
+        _check_nesting(text, where)
         root = yaml.compose(text, Loader=SAFE_LOADER)
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
@@ -240,11 +247,48 @@ def parse_config(text: str, path: str | Path | None = None, *,
         raise InputError(f"not valid YAML: {problem}", where,
                          mark.line + 1 if mark else None,
                          mark.column + 1 if mark else None) from None
+    except yaml.reader.ReaderError as exc:
+        # A character YAML does not allow: the first one of its kind is where the reader
+        # stopped (libyaml counts the offset in bytes, PyYAML in characters).
+        at = text.find(chr(exc.character)) if isinstance(exc.character, int) else -1
+        if at == -1:
+            raise InputError(f"not valid YAML: {exc}", where) from None
+        raise InputError(f"not valid YAML: character U+{exc.character:04X} is not allowed "
+                         f"({exc.reason})", where, text.count("\n", 0, at) + 1,
+                         at - (text.rfind("\n", 0, at) + 1) + 1) from None
     except yaml.YAMLError as exc:
         raise InputError(f"not valid YAML: {exc}", where) from None
     if root is None or _is_null(root):
         return Config.empty(where, digest)
     return _Reader(where).config(root, digest)
+
+
+MAX_NESTING = 50  # a netaudit.yaml nests five levels deep (parts[0].address.pins.A0)
+
+
+def _check_nesting(text: str, where: str | None) -> None:
+    """Refuse collections nested deeper than MAX_NESTING, before composing the file.
+
+    libyaml's scanner slows with the square of the nesting depth (10 000 levels of ``[``
+    take seconds, 100 000 minutes) and its composer recurses on the C stack (100 000 levels
+    crash the interpreter). The event stream is read without recursion and stopped at the
+    first level too deep, so the cost stays small.
+    """
+    loader = SAFE_LOADER(text)
+    try:
+        depth = 0
+        while loader.check_event():
+            event = loader.get_event()
+            if isinstance(event, yaml.CollectionStartEvent):
+                depth += 1
+                if depth > MAX_NESTING:
+                    mark = event.start_mark
+                    raise InputError(f"nested more than {MAX_NESTING} levels deep; a netaudit.yaml "
+                                     "needs a few", where, mark.line + 1, mark.column + 1)
+            elif isinstance(event, yaml.CollectionEndEvent):
+                depth -= 1
+    finally:
+        loader.dispose()
 
 
 # ---------------------------------------------------------------- node walking
