@@ -46,6 +46,9 @@ RULE_IDS = frozenset({
 DEFAULT_PIN_CAPACITANCE_F = 10e-12  # Ci max per I/O pin, UM10204 Rev. 6 Table 9
 DEFAULT_TRACE_F_PER_M = 0.1e-9      # 0.1 pF/mm pre-layout estimate, common practice, no source
 PF, MM = 1e-12, 1e-3
+# The largest numbers accepted: far beyond any board (1 kV, 1 mF, 10 km, 1 TΩ), they keep
+# every sum and product of the line budget finite. Common practice, no source.
+MAX_VOLTS, MAX_PF, MAX_PF_PER_MM, MAX_MM, MAX_OHMS = 1e3, 1e9, 1e6, 1e7, 1e12
 MAX_7BIT, MAX_10BIT = 0x7F, 0x3FF   # UM10204 Rev. 6 sections 3.1.10 and 3.1.11
 
 
@@ -387,7 +390,7 @@ class _Reader:
                       f"(expected one of: {', '.join(options)})")
         return value
 
-    def number(self, node, kp, *, positive=False) -> float:
+    def number(self, node, kp, *, positive=False, at_most: float | None = None) -> float:
         raw = self.scalar(node, kp, "a number")
         if node.tag == _INT:
             value = float(_CONSTRUCT.construct_yaml_int(node))
@@ -402,6 +405,8 @@ class _Reader:
         if value < 0 or (positive and value == 0):
             self.fail(node, kp, f"must be {'above zero' if positive else 'zero or more'}, "
                       f"found {raw}")
+        if at_most is not None and value > at_most:
+            self.fail(node, kp, f"{raw} is out of range (at most {at_most:g})")
         return value
 
     def integer(self, node, kp, low: int, high: int, what: str, fmt=_hex) -> int:
@@ -462,7 +467,7 @@ class _Reader:
                   f"found {_describe(node)}")
 
     def rails(self, node) -> dict[str, float]:
-        return {net: self.number(v, _join("rails", net))
+        return {net: self.number(v, _join("rails", net), at_most=MAX_VOLTS)
                 for net, (_, v) in self.mapping(node, "rails").items()}
 
     def defaults(self, node) -> Defaults:
@@ -472,10 +477,10 @@ class _Reader:
             mode=self.choice(m["mode"][1], "defaults.mode", MODES, "mode")
             if "mode" in m else d.mode,
             pin_capacitance_f=self.number(m["pin_capacitance_pf"][1],
-                                          "defaults.pin_capacitance_pf") * PF
+                                          "defaults.pin_capacitance_pf", at_most=MAX_PF) * PF
             if "pin_capacitance_pf" in m else d.pin_capacitance_f,
             trace_f_per_m=self.number(m["trace_pf_per_mm"][1],
-                                      "defaults.trace_pf_per_mm") * PF / MM
+                                      "defaults.trace_pf_per_mm", at_most=MAX_PF_PER_MM) * PF / MM
             if "trace_pf_per_mm" in m else d.trace_f_per_m)
 
     def buses(self, node) -> tuple[BusConfig, ...]:
@@ -509,7 +514,7 @@ class _Reader:
                 if "mode" in m else None,
                 offboard_pullup=pullup,
                 extra_capacitance_f=self.number(m["extra_capacitance_pf"][1],
-                                                f"{kp}.extra_capacitance_pf") * PF
+                                                f"{kp}.extra_capacitance_pf", at_most=MAX_PF) * PF
                 if "extra_capacitance_pf" in m else 0.0,
                 line=item.start_mark.line + 1, source=self.path))
         return tuple(out)
@@ -523,7 +528,7 @@ class _Reader:
         """A number, or an engineer's value such as ``2k2`` or ``4.7k`` (via netaudit.units)."""
         raw = self.scalar(node, kp, "a resistance")
         if node.tag != _STR or _NUMBER.fullmatch(raw.strip()):
-            return self.number(node, kp, positive=True)
+            return self.number(node, kp, positive=True, at_most=MAX_OHMS)
         value = None
         try:
             from .units import parse_value  # lazy: units.py is optional at import time
@@ -535,6 +540,8 @@ class _Reader:
             self.fail(node, kp, f"cannot read '{raw}' as a resistance (write e.g. 2200 or 2k2)")
         if value <= 0:
             self.fail(node, kp, f"must be above zero, found {raw}")
+        if value > MAX_OHMS:
+            self.fail(node, kp, f"{raw} is out of range (at most {MAX_OHMS:g})")
         return float(value)
 
     def traces(self, node) -> dict[str, TraceConfig]:
@@ -545,11 +552,12 @@ class _Reader:
             if len(m) != 1:
                 self.fail(v, kp, "give exactly one of length_mm or capacitance_pf")
             if "length_mm" in m:
-                out[net] = TraceConfig(length_m=self.number(m["length_mm"][1],
-                                                            f"{kp}.length_mm") * MM)
+                out[net] = TraceConfig(length_m=self.number(m["length_mm"][1], f"{kp}.length_mm",
+                                                            at_most=MAX_MM) * MM)
             else:
                 out[net] = TraceConfig(capacitance_f=self.number(m["capacitance_pf"][1],
-                                                                 f"{kp}.capacitance_pf") * PF)
+                                                                 f"{kp}.capacitance_pf",
+                                                                 at_most=MAX_PF) * PF)
         return out
 
     def part(self, node, kp) -> PartRule:
@@ -573,9 +581,9 @@ class _Reader:
             max_mode=self.choice(get("max_mode"), f"{kp}.max_mode", MODES, "mode")
             if get("max_mode") else None,
             tolerant_volts=self.number(get("tolerant_volts"), f"{kp}.tolerant_volts",
-                                       positive=True) if get("tolerant_volts") else None,
+                                       positive=True, at_most=MAX_VOLTS) if get("tolerant_volts") else None,
             pin_capacitance_f=self.number(get("pin_capacitance_pf"),
-                                          f"{kp}.pin_capacitance_pf") * PF
+                                          f"{kp}.pin_capacitance_pf", at_most=MAX_PF) * PF
             if get("pin_capacitance_pf") else None,
             line=node.start_mark.line + 1, source=self.path)
 
