@@ -14,7 +14,6 @@ Names (nets, refs, pins, buses) are taken as the text written, so ``1``, ``yes``
 from __future__ import annotations
 
 import hashlib
-import json
 import math
 import re
 from dataclasses import dataclass, field
@@ -25,6 +24,7 @@ from typing import Any, Union
 import yaml
 
 from .errors import InputError
+from .terminal import ACTIVE
 
 # libyaml's loader when PyYAML was built with it (same nodes and marks, about 10x faster).
 SAFE_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
@@ -723,9 +723,29 @@ def _yq(text: str, flow: bool = False) -> str:
                     for p in probes)
     except yaml.YAMLError:
         plain = False
-    if plain and text.strip() == text and text:
+    if plain and text.strip() == text and text and not ACTIVE.search(text):
         return text
-    return json.dumps(text, ensure_ascii=False)  # a JSON string is a YAML double-quoted scalar
+    return _double_quoted(text)
+
+
+def _double_quoted(text: str) -> str:
+    """``text`` as a YAML double-quoted scalar that reads back unchanged and shows plainly.
+
+    Escaped: the quote and the backslash; every character YAML does not allow raw (C0 and
+    C1 controls, DEL, U+FFFE, U+FFFF: YAML 1.2 section 5.1); those a YAML reader folds as line
+    breaks (NEL, LS, PS: section 5.4) or skips (the byte-order mark); and the bidirectional
+    controls, which would reorder the text on a reviewer's screen (netaudit.terminal.ACTIVE).
+    """
+    out = []
+    for ch in text:
+        code = ord(ch)
+        if ch in '"\\':
+            out.append("\\" + ch)
+        elif ACTIVE.match(ch) or code in (0xFFFE, 0xFFFF) or 0xD800 <= code <= 0xDFFF:
+            out.append(f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}")
+        else:
+            out.append(ch)
+    return '"' + "".join(out) + '"'
 
 
 def _ynets(nets: list[str]) -> str:
