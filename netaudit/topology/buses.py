@@ -140,7 +140,13 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
                     raise InputError(f"buses: bus '{bc.name}' names {signal} net '{net}', which is not in "
                                      "the design", getattr(bc, "source", None) or "netaudit.yaml",
                                      getattr(bc, "line", None))
-                lines.add(conn.line_id(net))
+                line_id = conn.line_id(net)
+                if conn.is_rail_line(line_id):
+                    raise InputError(f"buses: bus '{bc.name}' names {signal} net '{net}', which is a "
+                                     "supply rail (by its name, a rails: entry or a 0 ohm link to one)",
+                                     getattr(bc, "source", None) or "netaudit.yaml",
+                                     getattr(bc, "line", None))
+                lines.add(line_id)
             for ln in lines:
                 evidence[ln].forced = signal
                 evidence[ln].strong = True
