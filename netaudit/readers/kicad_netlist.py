@@ -89,7 +89,8 @@ def _atoms(item: list) -> dict[str, str]:
     atom of each child list, first occurrence winning (as :func:`sexpr.value` reads them)."""
     out: dict[str, str] = {}
     for c in item[1:]:
-        if type(c) is list and len(c) > 1 and type(c[1]) is str and c[0] not in out:
+        if type(c) is list and len(c) > 1 and type(c[0]) is str and type(c[1]) is str \
+                and c[0] not in out:
             out[c[0]] = c[1]
     return out
 
@@ -113,8 +114,8 @@ def _part(c: list, libpins: dict, sheet_files: dict[str, str]) -> Part:
     libsource: dict[str, str] = {}
     sheet_path = "/"
     for ch in c[1:]:
-        if type(ch) is not list or not ch:
-            continue
+        if type(ch) is not list or not ch or type(ch[0]) is not str:
+            continue  # ((a) b): a list where a keyword belongs; KiCad never writes one
         key = ch[0]
         if key == "fields":
             for f in ch[1:]:
