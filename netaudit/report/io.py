@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import errno
 import os
 import sys
 import tempfile
@@ -37,20 +38,54 @@ def write_atomic(path: Path, text: str) -> None:
             fh.write(text)
         os.chmod(tmp, 0o666 & ~_umask())   # mkstemp makes 0600; a report is an ordinary file
         os.replace(tmp, path)
-    except OSError as exc:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise InputError(f"cannot write report: {exc.strerror or exc}", str(path)) from None
+    except BaseException as exc:  # also an interrupt: never leave the temporary file behind
+        _remove(tmp)
+        if isinstance(exc, OSError):
+            raise InputError(f"cannot write report: {exc.strerror or exc}", str(path)) from None
+        raise
 
 
 def write_new(path: Path, text: str) -> None:
-    """Write a file that must not exist yet; never overwrite."""
+    """Write a file that must not exist yet; never overwrite.
+
+    The file appears whole or not at all: the text goes to a temporary file beside it, which
+    is then hard-linked to the name (a link fails if the name exists, atomically) and its
+    temporary name removed. Where the file system has no hard links, the name is created
+    exclusively and written in place.
+    """
+    folder = path.parent if str(path.parent) else Path(".")
+    if os.path.lexists(path):
+        raise InputError("already exists; not overwritten", str(path))
     try:
-        with open(path, "x", encoding="utf-8", newline="\n") as fh:
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise InputError(f"cannot write: {exc.strerror or exc}", str(path)) from None
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
+        os.chmod(tmp, 0o666 & ~_umask())
+        try:
+            os.link(tmp, path)
+        except FileExistsError:
+            raise
+        except OSError as exc:
+            if exc.errno not in _NO_HARD_LINKS:
+                raise
+            with open(path, "x", encoding="utf-8", newline="\n") as fh:
+                fh.write(text)
     except FileExistsError:
         raise InputError("already exists; not overwritten", str(path)) from None
     except OSError as exc:
         raise InputError(f"cannot write: {exc.strerror or exc}", str(path)) from None
+    finally:
+        _remove(tmp)
+
+
+_NO_HARD_LINKS = {errno.EPERM, errno.ENOTSUP, errno.EOPNOTSUPP, errno.EXDEV, errno.EMLINK, errno.ENOSYS}
+
+
+def _remove(path: str) -> None:
+    try:
+        os.unlink(path)
+    except OSError:
+        pass
