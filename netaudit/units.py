@@ -276,7 +276,10 @@ _UNIT_SYMBOLS = {OHM: "Ω", "ohms": "Ω", "Ω": "Ω"}
 def _round_sig(value: float, digits: int) -> float:
     if value == 0:
         return 0.0
-    return round(value, digits - 1 - math.floor(math.log10(abs(value))))
+    try:
+        return round(value, digits - 1 - math.floor(math.log10(abs(value))))
+    except OverflowError:  # rounds up past the largest float (1.797e308 to 1.80e308): keep it
+        return value
 
 
 def format_si(value: float, unit: str, digits: int = 3) -> str:
