@@ -65,14 +65,14 @@ def read(text: str, path: Path, digest: str) -> Design:
     general = setup = title_block = layers = None
     version = generator_version = ""
     for item in tree[1:]:
-        if type(item) is not list or not item:
-            continue
+        if type(item) is not list or not item or type(item[0]) is not str:
+            continue  # ((a) b): a list where a keyword belongs; KiCad never writes one
         key = item[0]
         if key in items:
             items[key].append(item)
         elif key == "module":                      # KiCad 5 name of a footprint
             items["footprint"].append(item)
-        elif key == "net" and len(item) >= 3:
+        elif key == "net" and len(item) >= 3 and type(item[1]) is str and type(item[2]) is str:
             table[item[1]] = unescape_kicad(item[2])
         elif key == "general":
             general = item
