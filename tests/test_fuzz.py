@@ -1334,6 +1334,15 @@ def test_netlist_with_a_list_where_a_keyword_belongs_reads(tmp_path):
     assert code == 0, err
 
 
+def test_board_with_a_list_where_a_keyword_belongs_reads(tmp_path):
+    # Was: TypeError (unhashable list) in the board reader; found by mutating a real board.
+    path = tmp_path / "odd.kicad_pcb"
+    path.write_text('(kicad_pcb (version 20240108) (generator "pcbnew")\n  ((net) 1 "x")\n'
+                    '  (net (0) "y")\n  (net 1 ("z")))\n', encoding="utf-8")
+    code, _out, err = _cli(["check", path, "--quiet"])
+    assert code == 0, err
+
+
 @pytest.mark.parametrize("data, where", [
     (b"version: 1\nrails:\n  \xe9: 3.3\n", (3, 3)),              # Latin-1: netaudit.yaml is UTF-8
     (b"\xef\xbb\xbfversion: 1\r\nrails:\r\n  a\x1b: 3.3\r\n", (3, 4)),  # a control character
