@@ -11,7 +11,7 @@ from dataclasses import dataclass, fields, replace
 from typing import Any
 
 from ..config import Config
-from ..model import Design, Part
+from ..model import Design
 
 
 @dataclass(frozen=True)

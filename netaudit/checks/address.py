@@ -10,8 +10,7 @@ from __future__ import annotations
 
 from collections import defaultdict
 
-from ..addressing import (ADDRESSED_ROLES, Resolution, chain, format_address, home_zones,
-                          resolve_buses, zones)
+from ..addressing import ADDRESSED_ROLES, Resolution, chain, format_address, home_zones, zones
 from ..electrical.modes import get_mode
 from ..results import Bus, Severity
 from . import CheckContext, finding, rule

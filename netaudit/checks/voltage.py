@@ -287,7 +287,7 @@ def _fet_shifters(ctx: CheckContext):
             s_net, d_net, g_net = (_fet_net(ctx, d.ref, x) for x in ("S", "D", "G"))
             if s_net not in where or d_net not in where:
                 continue
-            (_b1, s_seg, s_line), (bus, d_seg, d_line) = where[s_net], where[d_net]
+            (_, s_seg, s_line), (bus, d_seg, d_line) = where[s_net], where[d_net]
             nets = list(s_line.nets) + list(d_line.nets) + ([g_net] if g_net else [])
             vs, vd = line_level(ctx, s_line), line_level(ctx, d_line)
             base = dict(bus=bus, segment=d_seg, line=d_line.signal, refs=[d.ref], nets=nets,

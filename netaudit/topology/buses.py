@@ -24,7 +24,7 @@ from ..errors import InputError
 from ..model import Design, Part
 from ..results import Bus, Device, DevicePin, Line, PullUp, Rail, Segment, SeriesLink, Upstream
 from .lines import SERIES_MAX_OHMS, Connectivity
-from .names import PinSignal, net_base, net_signal, partner_names, pin_signal, strip_markup
+from .names import net_base, net_signal, partner_names, pin_signal, strip_markup
 from .parts import is_connector, is_fet, looks_passive
 
 CONTROLLER_MIN_PINS = 32  # a processor, FPGA or module, not a peripheral (common practice, no source)
@@ -227,7 +227,7 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
     matching = nx.max_weight_matching(graph) if graph.number_of_edges() else set()
     pairs: dict[str, str] = {}
     for u, v in matching:
-        (su, lu), (_sv, lv) = u, v
+        (su, lu), (_, lv) = u, v
         sda, scl = (lu, lv) if su == "sda" else (lv, lu)
         pairs[sda] = scl
 

@@ -154,7 +154,8 @@ def connect(sf: SheetFile, pins: list[PlacedPin]) -> list[Group]:
     n_wires = len(kind)
     for s in buses.segments:
         add(BUS, s, ((s[0], s[1]), (s[2], s[3])))
-    pin_ids = [add(PIN, p, ((p.x, p.y),)) for p in pins]
+    for p in pins:
+        add(PIN, p, ((p.x, p.y),))
     label_ids = [add(LABEL, i, ((lb.x, lb.y),)) for i, lb in enumerate(sf.labels)]
     sheet_pin_ids: list[tuple[int, int, int]] = []
     for si, sheet in enumerate(sf.sheets):
