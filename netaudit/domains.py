@@ -94,6 +94,9 @@ class Domains:
         self.parts = parts
         self.conn = conn if conn is not None else Connectivity(design, rails)
         self._switched: dict[str, str] | None = None
+        self._resistors_by_ref: dict[str, list] = {}
+        for r in self.conn.resistors:
+            self._resistors_by_ref.setdefault(r.ref, []).append(r)
 
     # -- nets and rails ------------------------------------------------------------
     def is_ground(self, net: str) -> bool:
@@ -271,9 +274,9 @@ class Domains:
             if node.ref == own_ref or part is None or not part.fitted or node.pin_type in ("input", "power_in"):
                 continue
             if looks_passive(part):
-                if depth > 0 and any(r.ref == part.ref for r in self.conn.resistors):
-                    for r in self.conn.resistors:
-                        if r.ref == part.ref and r.fitted and net in (r.a, r.b):
+                if depth > 0:
+                    for r in self._resistors_by_ref.get(part.ref, ()):
+                        if r.fitted and net in (r.a, r.b):
                             far = r.b if r.a == net else r.a
                             if self._driven(far, own_ref, depth - 1):
                                 return True
