@@ -68,9 +68,7 @@ def _line_budget(design, bus: Bus, seg: Segment, line: Line, rails, parts, confi
     for p in line.fitted_pullups:
         if not p.offboard and p.rail not in rails:
             continue  # to a signal: pullup-to-signal reports it; no steady supply to count
-        volts = p.rail and (rails[p.rail].volts if p.rail in rails else None)
-        if p.offboard and p.rail in rails:
-            volts = rails[p.rail].volts
+        volts = rails[p.rail].volts if p.rail in rails else None
         if p.ohms is None or p.ohms <= 0:
             notes.append(f"pull-up {p.ref}: value unreadable, left out")
             continue
