@@ -20,6 +20,7 @@ import pytest
 from handmade import build, ic, res
 from markupsafe import escape
 
+from netaudit.addressing import address_domains
 from netaudit.audit import audit, audit_design
 from netaudit.config import Config
 from netaudit.report import html, svg
@@ -133,13 +134,15 @@ DEMO_ADDRESSES = {"U2": 0x44, "U3": 0x51, "U5": 0x48, "U6": 0x27, "U8": 0x77, "U
 
 
 def _with_addresses(result, addresses=DEMO_ADDRESSES):
+    """The audit with the given addresses set by hand; its address domains are worked out
+    again here (the pipeline's step), since reports only read ``Audit.address_domains``."""
     buses = []
     for bus in result.buses:
         segs = tuple(dataclasses.replace(s, devices=tuple(
             dataclasses.replace(d, address=addresses.get(d.ref, d.address)) for d in s.devices))
             for s in bus.segments)
         buses.append(dataclasses.replace(bus, segments=segs))
-    return dataclasses.replace(result, buses=tuple(buses))
+    return dataclasses.replace(result, buses=tuple(buses), address_domains=tuple(address_domains(buses)))
 
 
 # ---------------------------------------------------------------------------
@@ -370,7 +373,7 @@ def test_mux_channels_are_separate_address_domains_that_see_upstream_devices():
     # CONTRACT.md topology semantics: a channel's domain is the channel plus the upstream segment.
     result = _with_addresses(_demo())
     main = next(b for b in result.buses if b.name == "I2C_MAIN")
-    domains = {d.name: d for d in html.address_domains(main)}
+    domains = {d.name: d for d in html.address_domains(main, result.address_domains)}
     root = domains["I2C_MAIN"]
     assert {"U2", "U401", "U8"} <= {d.ref for d in root.local}       # U8 sits behind translator U7
     assert not {"U402", "U403", "U404"} & {d.ref for d in root.local}
@@ -383,6 +386,18 @@ def test_mux_channels_are_separate_address_domains_that_see_upstream_devices():
     cells0 = {a["data-address"]: a["class"].split()[1]
               for a in _dom(svg.address_map(ch0.name, ch0.local, ch0.upstream)).having("g", **{"class": "cell"})}
     assert cells0["0x29"] == "taken" and cells0["0x44"] == "upstream"   # U402 alone; U2 seen upstream
+
+
+def test_report_draws_only_the_address_domains_the_audit_carries():
+    # Reports format; the pipeline works the domains out. An Audit made without them gets
+    # no address maps rather than maps the report worked out itself.
+    result = _demo()
+    assert result.address_domains
+    bare = dataclasses.replace(result, address_domains=())
+    page = html.render(bare, WHEN)
+    assert "address-map" not in "".join(a.get("class", "") for a in _dom(page).having("svg"))
+    drawn = _dom(html.render(result, WHEN)).having("svg", **{"class": "address-map"})
+    assert len(drawn) == len(result.address_domains)
 
 
 def test_rule_documentation_is_split_into_what_why_fix_and_source():

@@ -107,28 +107,29 @@ class Domain:
     upstream: tuple[Device, ...]
 
 
-def address_domains(bus: Bus, stored=()) -> list[Domain]:
+def address_domains(bus: Bus, stored) -> list[Domain]:
     """The address domains of one bus, named by the path of multiplexer channels to them.
 
-    ``stored`` is ``Audit.address_domains`` (worked out by the pipeline); an Audit made
-    without them (by hand, in tests) gets them from netaudit.addressing here.
+    ``stored`` is ``Audit.address_domains``, worked out by the pipeline
+    (netaudit.addressing); the report only reads them. A domain's ``local`` devices are
+    those its enclosing domain (the one for its next zone up) does not hold.
     """
-    from ..addressing import address_domains as domains_of
-    from ..addressing import home_zones, zones
-
-    zone_map, _zone_of = zones(bus)
-    home = home_zones(bus)
-    mine = [d for d in stored if d.bus == bus.name] or domains_of([bus])
+    segments = {s.id: s for s in bus.segments}
+    mine = [d for d in stored if d.bus == bus.name]
+    by_id = {d.id: d for d in mine}
     out = []
     for dom in mine:
         name = bus.name
-        for zid in reversed(dom.zones):
-            zone = zone_map.get(zid)
-            if zone is not None and zone.mux is not None:
-                name += f" → {zone.mux}" + (f" channel {zone.channel}" if zone.channel is not None else "")
+        for zid in reversed(dom.zones[:-1]):      # every zone but the outermost heads a mux channel
+            seg = segments.get(zid)
+            up = seg.upstream if seg is not None else None
+            if up is not None and up.kind == "mux":
+                name += f" → {up.ref}" + (f" channel {up.channel}" if up.channel is not None else "")
+        outer = by_id.get(dom.zones[1]) if len(dom.zones) > 1 else None
+        above = {d.ref for d in outer.devices} if outer is not None else set()
         out.append(Domain(name=name, bus=bus.name,
-                          local=tuple(d for d in dom.devices if home.get(d.ref) == dom.id),
-                          upstream=tuple(d for d in dom.devices if home.get(d.ref) != dom.id)))
+                          local=tuple(d for d in dom.devices if d.ref not in above),
+                          upstream=tuple(d for d in dom.devices if d.ref in above)))
     return out
 
 
