@@ -9,6 +9,7 @@ from .catalog import describe_parts
 from .checks import CheckContext, run_checks
 from .config import Config, find_config, load_config
 from .domains import Domains, assign_domains
+from .gcpause import collection_paused
 from .linebudget import budget_buses
 from .model import Design
 from .readers import read_design
@@ -28,11 +29,17 @@ def audit(path: str | Path, config: Config | str | Path | None = None, mode: str
         config = load_config(found) if found else Config.empty()
     elif not isinstance(config, Config):
         config = load_config(config)
-    return audit_design(read_design(path, use_kicad_cli=use_kicad_cli), config, mode)
+    with collection_paused():
+        return audit_design(read_design(path, use_kicad_cli=use_kicad_cli), config, mode)
 
 
 def audit_design(design: Design, config: Config, mode: str | None = None) -> Audit:
     """Audit a Design already read (the KiCad plugin builds one from the open board)."""
+    with collection_paused():
+        return _audit_design(design, config, mode)
+
+
+def _audit_design(design: Design, config: Config, mode: str | None) -> Audit:
     default_mode = mode or config.defaults.mode
     rails = find_rails(design, config.rails)
     parts = describe_parts(design, config)

@@ -9,7 +9,7 @@ something else on the line (another device, a pull-up to a rail) says it is one.
 
 Splitting (CONTRACT.md, topology semantics): a multiplexer or switch, a repeater/buffer
 and a translator (integrated, or a discrete N-channel FET per line) split a bus into
-segments; the bus graph is built with networkx.
+segments; the groups of segments joined by splitters are the buses.
 """
 
 from __future__ import annotations
@@ -18,11 +18,10 @@ from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import Mapping
 
-import networkx as nx
-
 from ..errors import InputError
 from ..model import Design, Part
 from ..results import Bus, Device, DevicePin, Line, PullUp, Rail, Segment, SeriesLink, Upstream
+from .graphs import connected_groups, max_weight_pairs
 from .lines import SERIES_MAX_OHMS, Connectivity
 from .names import net_base, net_signal, partner_names, pin_signal, strip_markup
 from .parts import is_connector, is_fet, looks_passive
@@ -179,11 +178,10 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
                   if ev.signal is not None and not conn.is_rail_line(ln)}
 
     # 4. Pair data lines with clock lines.
-    graph = nx.Graph()
+    weights: dict[tuple[tuple[str, str], tuple[str, str]], float] = {}
     def bump(a: str, b: str, w: float) -> None:
-        sa, sb = ("sda", a), ("scl", b)
-        old = graph.get_edge_data(sa, sb, {"weight": 0.0})["weight"]
-        graph.add_edge(sa, sb, weight=old + w)
+        edge = (("sda", a), ("scl", b))
+        weights[edge] = weights.get(edge, 0.0) + w
 
     by_part: dict[str, dict[str, dict[str, set]]] = defaultdict(lambda: defaultdict(lambda: {"sda": set(), "scl": set()}))
     for ln, ev in candidates.items():
@@ -224,7 +222,7 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
     for a, b, _bc in forced_pairs:
         bump(a, b, 1000.0)
 
-    matching = nx.max_weight_matching(graph) if graph.number_of_edges() else set()
+    matching = max_weight_pairs(weights)
     pairs: dict[str, str] = {}
     for u, v in matching:
         (su, lu), (_, lv) = u, v
@@ -261,8 +259,6 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
     for sda, scl in accepted.items():
         seg_of_line[sda] = sda
         seg_of_line[scl] = sda
-    seg_graph = nx.Graph()
-    seg_graph.add_nodes_from(accepted)
     splitters: dict[str, list] = defaultdict(list)   # ref -> [(segment key, PinSignal)]
     for ln in paired:
         for ref, _pin, _fn, sig in candidates[ln].pins:
@@ -296,9 +292,6 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
     for ref, ls, ld in fets:
         if ls in seg_of_line and ld in seg_of_line and seg_of_line[ls] != seg_of_line[ld]:
             edges.append((seg_of_line[ls], seg_of_line[ld], _Splitter(ref, "translator", None, None)))
-    for a, b, sp in edges:
-        if a != b:
-            seg_graph.add_edge(a, b)
 
     # 6. Buses: connected groups of segments, oriented from the controller's segment.
     bus_config_of = {}
@@ -307,7 +300,8 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
             bus_config_of[a] = bc
     buses = []
     used_names: set[str] = set()
-    for comp in sorted(nx.connected_components(seg_graph), key=lambda c: sorted(c)[0]):
+    seg_groups = connected_groups(accepted, ((a, b) for a, b, _sp in edges if a != b))
+    for comp in sorted(seg_groups, key=lambda c: sorted(c)[0]):
         comp = set(comp)
         downstream = {b for a, b, sp in edges if sp.kind == "mux" and sp.upstream == a and b in comp}
         root = _pick_root(design, conn, comp - downstream or comp, accepted)

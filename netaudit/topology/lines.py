@@ -17,11 +17,10 @@ from dataclasses import dataclass
 from functools import lru_cache
 from typing import Iterable, Mapping
 
-import networkx as nx
-
 from ..model import Design, Part
 from ..results import Rail
 from ..units import part_value
+from .graphs import connected_groups
 
 _ohms = lru_cache(maxsize=65536)(lambda value, fields: part_value(value, fields, "ohm"))
 
@@ -90,14 +89,11 @@ class Connectivity:
     def __init__(self, design: Design, rails: Mapping[str, Rail]):
         self.design = design
         self.resistors = find_resistors(design)
-        g = nx.Graph()
-        g.add_nodes_from(n.name for n in design.nets)
         self.links = [r for r in self.resistors if r.fitted and r.ohms == 0.0]
-        g.add_edges_from((r.a, r.b) for r in self.links)
         self.group_of: dict[str, str] = {}
         self.members: dict[str, tuple[str, ...]] = {}
         self.rail_of: dict[str, Rail] = {}
-        for comp in nx.connected_components(g):
+        for comp in connected_groups((n.name for n in design.nets), ((r.a, r.b) for r in self.links)):
             nets = tuple(sorted(comp))
             rep = nets[0]
             self.members[rep] = nets
@@ -117,12 +113,10 @@ class Connectivity:
                        if r.fitted and r.ohms is not None and r.ohms <= SERIES_MAX_OHMS
                        and self.group_of[r.a] not in self.rail_of and self.group_of[r.b] not in self.rail_of]
         series_ids = {id(r) for r in self.series}
-        line_graph = nx.Graph()
-        line_graph.add_nodes_from(self.members)
-        line_graph.add_edges_from((self.group_of[r.a], self.group_of[r.b]) for r in self.series)
         self.line_of: dict[str, str] = {}
         self.line_groups: dict[str, tuple[str, ...]] = {}
-        for comp in nx.connected_components(line_graph):
+        for comp in connected_groups(self.members, ((self.group_of[r.a], self.group_of[r.b])
+                                                    for r in self.series)):
             groups = tuple(sorted(comp))
             for grp in groups:
                 self.line_of[grp] = groups[0]
