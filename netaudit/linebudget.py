@@ -18,14 +18,19 @@ from .electrical.traces import (DEFAULT_PLANE_CLEARANCE_M, RoutedCapacitance,
                                  routed_capacitance)
 from .model import Board, Design
 from .results import Bus, Line, LineBudget, Rail, Segment
+from .topology.lines import Connectivity
 from .units import part_value
 
 _CAP_REF = re.compile(r"^C\d")
 
 
 def budget_buses(design: Design, buses: tuple[Bus, ...], rails: Mapping[str, Rail],
-                 parts: Mapping, config: Config) -> tuple[Bus, ...]:
-    caps = _capacitors_by_net(design, rails)
+                 parts: Mapping, config: Config, *, conn: Connectivity | None = None) -> tuple[Bus, ...]:
+    """Fill each line's budget. ``conn`` is the design's connectivity as bus finding built it
+    (``Topology.conn``); without it one is built here from ``design`` and ``rails``."""
+    if conn is None:
+        conn = Connectivity(design, rails)
+    caps = _capacitors_by_net(design, conn)
     out = []
     for bus in buses:
         segs = []
@@ -38,8 +43,14 @@ def budget_buses(design: Design, buses: tuple[Bus, ...], rails: Mapping[str, Rai
     return tuple(out)
 
 
-def _capacitors_by_net(design: Design, rails: Mapping[str, Rail]) -> dict[str, list[tuple[str, float | None]]]:
-    """Fitted two-pin capacitors from a net to a rail (ground included): net -> [(ref, farads)]."""
+def _capacitors_by_net(design: Design, conn: Connectivity) -> dict[str, list[tuple[str, float | None]]]:
+    """Fitted two-pin capacitors from a net to a rail (ground included): net -> [(ref, farads)].
+
+    A rail is reached as pull-ups reach it: through fitted 0 ohm links (the nets of one
+    ``Connectivity`` group are one net electrically), so a capacitor whose far end is
+    linked to ground by a 0 ohm resistor loads the line like one placed on ground.
+    """
+    group_of, rail_of = conn.group_of, conn.rail_of
     out: dict[str, list] = {}
     for part in design.parts:
         if not _CAP_REF.match(part.ref) or not part.fitted:
@@ -50,11 +61,12 @@ def _capacitors_by_net(design: Design, rails: Mapping[str, Rail]) -> dict[str, l
         if len(nets) != 2:
             continue
         a, b = nets
+        a_rail = group_of.get(a, a) in rail_of
+        b_rail = group_of.get(b, b) in rail_of
+        if a_rail == b_rail:
+            continue
         farads = part_value(part.value, part.fields, "F")
-        if b in rails and a not in rails:
-            out.setdefault(a, []).append((part.ref, farads))
-        elif a in rails and b not in rails:
-            out.setdefault(b, []).append((part.ref, farads))
+        out.setdefault(b if a_rail else a, []).append((part.ref, farads))
     return out
 
 

@@ -163,6 +163,54 @@ def test_capacitor_on_the_line_adds_to_the_load():
     assert sda.capacitance_farads == pytest.approx(120 * PF)
 
 
+def test_capacitor_reaching_ground_through_a_0_ohm_link_counts_like_one_on_ground():
+    # A fitted 0 ohm resistor is a link: its two nets are one net (common practice, no
+    # source), as pull-ups are found. 100 pF from SDA to a net that R9 (0 ohm) ties to GND
+    # loads SDA exactly as 100 pF straight to GND: Cb = 20 + 100 = 120 pF.
+    direct = pulled("10k", extra_parts=[cap("C1", "100p")], extra_nets={"/SDA": ["C1.1"], "GND": ["C1.2"]})
+    linked = pulled("10k", extra_parts=[cap("C1", "100p"), res("R9", "0")],
+                    extra_nets={"/SDA": ["C1.1"], "/CAP_GND": ["C1.2", "R9.1"], "GND": ["R9.2"]})
+    want = direct.buses[0].segments[0].sda.budget
+    got = linked.buses[0].segments[0].sda.budget
+    assert got.capacitance_parts["capacitors"] == pytest.approx(100 * PF)
+    assert got.capacitance_farads == pytest.approx(want.capacitance_farads)
+    assert got.rise_time_s == pytest.approx(want.rise_time_s)
+    assert [f.line for f in of(linked, "pullup-too-weak")] == ["sda"]
+
+
+def test_capacitor_behind_a_not_fitted_0_ohm_link_is_not_counted():
+    # A 0 ohm resistor marked not fitted joins nothing (common practice, no source): the
+    # capacitor's far end floats, so SDA carries only its 20 pF of pins.
+    a = pulled("10k", extra_parts=[cap("C1", "100p"), res("R9", "0", dnp=True)],
+               extra_nets={"/SDA": ["C1.1"], "/CAP_GND": ["C1.2", "R9.1"], "GND": ["R9.2"]})
+    sda = a.buses[0].segments[0].sda.budget
+    assert sda.capacitance_parts["capacitors"] == 0.0
+    assert sda.capacitance_farads == pytest.approx(PINS_F)
+
+
+def test_line_budget_with_the_pipelines_connectivity_equals_one_built_for_it():
+    # budget_buses(conn=topology.conn) reuses the connectivity bus finding built; given none
+    # it builds its own from the same design and rails: both budgets are the same.
+    from netaudit.catalog import describe_parts
+    from netaudit.linebudget import budget_buses
+    from netaudit.topology.buses import find_buses
+    from netaudit.topology.rails import find_rails
+    d = build([ic("U1", "MCU", ["SDA", "SCL", "VDD", "GND"], pins_total=48),
+               ic("U2", "SENSOR", ["SDA", "SCL", "VDD", "GND"]),
+               res("R1", "10k"), res("R2", "10k"), res("R9", "0"), cap("C1", "100p")],
+              {"/SDA": ["U1.SDA", "U2.SDA", "R1.1", "C1.1"], "/SCL": ["U1.SCL", "U2.SCL", "R2.1"],
+               "+3V3": ["U1.VDD", "U2.VDD", "R1.2", "R2.2"], "/CAP_GND": ["C1.2", "R9.1"],
+               "GND": ["U1.GND", "U2.GND", "R9.2"]})
+    config = Config.empty()
+    rails = find_rails(d, config.rails)
+    parts = describe_parts(d, config)
+    topology = find_buses(d, rails, roles={r: i.role for r, i in parts.items() if i.role})
+    shared = budget_buses(d, topology.buses, rails, parts, config, conn=topology.conn)
+    own = budget_buses(d, topology.buses, rails, parts, config)
+    assert shared == own
+    assert shared[0].segments[0].sda.budget.capacitance_parts["capacitors"] == pytest.approx(100 * PF)
+
+
 # -- capacitance-over-limit ----------------------------------------------------------
 
 def test_470_pf_is_over_the_fast_mode_limit():
