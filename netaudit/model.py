@@ -1,13 +1,16 @@
 """The design model: one format-free picture of a KiCad design.
 
 Readers build a :class:`Design`; everything downstream reads it and never a file.
-All classes are frozen dataclasses; lookups are precomputed indexes, not behaviour.
+Every class is immutable. The four a design holds by the hundred thousand (:class:`Pin`,
+:class:`Node`, :class:`Net`, :class:`Part`) are named tuples, built several times faster
+than frozen dataclasses and smaller; the rest are frozen dataclasses. Lookups are
+precomputed indexes, not behaviour.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Iterable, Mapping
+from typing import Iterable, Mapping, NamedTuple
 
 # Field names and values engineers use to mark a part as not fitted
 # (common practice, no source): DNP "do not populate", DNM "do not mount", NF "not fitted".
@@ -16,8 +19,7 @@ NOT_FITTED_VALUES = frozenset({"DNP", "DNM", "NF", "NC", "N/C", "NOT FITTED", "N
 _FALSE_WORDS = frozenset({"", "0", "NO", "N", "FALSE", "OFF"})
 
 
-@dataclass(frozen=True)
-class Pin:
+class Pin(NamedTuple):
     """A pin of a part: its number, its name (pin function) and electrical type."""
 
     number: str
@@ -25,8 +27,7 @@ class Pin:
     type: str = ""
 
 
-@dataclass(frozen=True)
-class Node:
+class Node(NamedTuple):
     """One pin of one part on a net."""
 
     ref: str
@@ -35,8 +36,7 @@ class Node:
     pin_type: str = ""
 
 
-@dataclass(frozen=True)
-class Net:
+class Net(NamedTuple):
     name: str
     nodes: tuple[Node, ...] = ()
     code: str = ""
@@ -53,8 +53,7 @@ class Sheet:
     revision: str = ""
 
 
-@dataclass(frozen=True)
-class Part:
+class Part(NamedTuple):
     """A placed part (symbol instance), as the netlist lists it."""
 
     ref: str

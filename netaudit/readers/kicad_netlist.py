@@ -53,28 +53,24 @@ def read(text: str, path: Path, digest: str) -> Design:
             for name in names:
                 libpins.setdefault((lib, name), pins)
 
+    # The tree is this reader's own: each section is emptied as it is read, so the memory
+    # of its lists goes back while the model grows (a 50k-part netlist's tree is ~250 MB).
     nets = []
     nets_node = sexpr.child(tree, "nets")
     if nets_node is not None:
-        for n in sexpr.children(nets_node, "net"):
-            nodes = []
-            for d in n[1:]:
-                if type(d) is not list or not d or d[0] != "node":
-                    continue
-                a = _atoms(d)
-                nodes.append(Node(a.get("ref", ""), a.get("pin", ""),
-                                  pin_name(a.get("pinfunction", ""), legacy), a.get("pintype", "")))
-            nodes = tuple(nodes)
-            name = unescape_kicad(sexpr.value(n, "name"))
-            nets.append(Net(legacy_overbar(name) if legacy else name, nodes,
-                            sexpr.value(n, "code"), sexpr.value(n, "class")))
+        for i, n in enumerate(nets_node):
+            if type(n) is list and n and n[0] == "net":
+                nets.append(_net(n, legacy))
+            nets_node[i] = None
 
     sheet_files = {s.path: s.file for s in sheets}
     parts = []
     comps = sexpr.child(tree, "components")
     if comps is not None:
-        for c in sexpr.children(comps, "comp"):
-            parts.append(_part(c, libpins, sheet_files))
+        for i, c in enumerate(comps):
+            if type(c) is list and c and c[0] == "comp":
+                parts.append(_part(c, libpins, sheet_files))
+            comps[i] = None
 
     return Design(
         path=str(path), format=FORMAT, sha256=digest,
@@ -86,13 +82,28 @@ def read(text: str, path: Path, digest: str) -> Design:
 
 def _atoms(item: list) -> dict[str, str]:
     """``(node (ref "U1") (pin "3") ...)`` -> ``{"ref": "U1", "pin": "3", ...}``: the first
-    atom of each child list, first occurrence winning (as :func:`sexpr.value` reads them)."""
-    out: dict[str, str] = {}
-    for c in item[1:]:
-        if type(c) is list and len(c) > 1 and type(c[0]) is str and type(c[1]) is str \
-                and c[0] not in out:
-            out[c[0]] = c[1]
-    return out
+    atom of each child list, first occurrence winning (as :func:`sexpr.value` reads them:
+    the children are walked last to first, so an earlier one overwrites a later one)."""
+    return {c[0]: c[1] for c in item[:0:-1]
+            if type(c) is list and len(c) > 1 and type(c[1]) is str and type(c[0]) is str}
+
+
+def _net(n: list, legacy: bool) -> Net:
+    """One ``(net (code ..) (name ..) (class ..) (node ..) ...)``."""
+    nodes = []
+    for d in n[1:]:
+        if type(d) is not list or not d or d[0] != "node":
+            continue
+        a = _atoms(d)
+        fn = a.get("pinfunction", "")
+        if legacy:
+            fn = pin_name(fn, legacy)
+        elif fn == "~":
+            fn = ""
+        nodes.append(Node(a.get("ref", ""), a.get("pin", ""), fn, a.get("pintype", "")))
+    name = unescape_kicad(sexpr.value(n, "name"))
+    return Net(legacy_overbar(name) if legacy else name, tuple(nodes),
+               sexpr.value(n, "code"), sexpr.value(n, "class"))
 
 
 def is_legacy(version: str) -> bool:

@@ -160,8 +160,10 @@ def _parse_via_json(text: str) -> list | None:
     apply (then the token loop reads the text, or names what is wrong with it).
 
     Quoted strings are cut out at their quotes (``\\`` and ``\"`` set aside first as
-    control characters that cannot occur in a KiCad file); each becomes a marker in the
-    text between them, where every atom is quoted, ``(`` becomes ``[`` and ``)`` ``]``.
+    control characters that cannot occur in a KiCad file). The text between two strings
+    becomes JSON (every atom quoted, ``(`` as ``[`` and ``)`` as ``]``) by
+    :func:`_between_to_json`; KiCad files repeat the same few such pieces (``) (pin ``)
+    hundreds of thousands of times, so each distinct piece is rewritten once.
     Nesting deeper than ``MAX_DEPTH`` is left to the token loop: on CPython 3.11 with the
     default recursion limit ``json`` itself stops short of it; elsewhere the tree is measured.
     """
@@ -172,26 +174,30 @@ def _parse_via_json(text: str) -> list | None:
         if "\\" in text and _JSON_ESCAPES_ONLY.search(text):
             return None
     pieces = text.split('"')
-    if len(pieces) % 2 == 0:
+    del text
+    last = len(pieces) - 1
+    if last % 2:
         return None  # a quote left open
-    between = "\x01".join(pieces[0::2])
-    if "\\" in between or "\x02" in between or "\x03" in between or "[" in between \
-            or "]" in between or _ATOM_BEFORE_QUOTE.search(between) \
-            or ("#" in between and _COMMENT_LINE.search(between)):
-        return None
-    if between.isascii():
-        if any(c in between for c in _ODD_BLANK_ASCII):
+    if last == 0:
+        converted = _between_to_json(pieces[0])
+        if converted is None:
             return None
-    elif _ODD_BLANK.search(between):
-        return None
-    tokens = between.replace("(", " ( ").replace(")", " ) ").replace("\x01", " \x01 ").split()
-    body = ('"' + '","'.join(tokens) + '"').replace('"(",")"', "[]").replace('"(",', "[") \
-        .replace(',")"', "]")
-    segments = body.split("\x01")
-    joined = [""] * (2 * len(segments) - 1)
-    joined[0::2] = segments
-    joined[1::2] = pieces[1::2]
-    document = "".join(joined)
+        document = converted[0]
+    else:
+        # The first piece has no string before it and the last none after it; every piece
+        # in the middle stands between two strings (the markers below stand for them).
+        first = _between_to_json(pieces[0] + "\x01")
+        final = _between_to_json("\x01" + pieces[last])
+        distinct = list(set(pieces[2:last:2]))
+        middle = _between_to_json("\x01" + "\x01".join(distinct) + "\x01")
+        if first is None or final is None or middle is None:
+            return None
+        table = dict(zip(distinct, middle[1:-1]))
+        del distinct, middle
+        pieces[2:last:2] = map(table.__getitem__, pieces[2:last:2])
+        pieces[0], pieces[last] = first[0], final[1]
+        document = "".join(pieces)
+    del pieces
     if "\x02" in document or "\x03" in document:
         document = document.replace("\x02", "\\\\").replace("\x03", '\\"')
     collecting = gc.isenabled()
@@ -209,6 +215,26 @@ def _parse_via_json(text: str) -> list | None:
             and _deeper_than(tree, MAX_DEPTH):
         return None
     return tree
+
+
+def _between_to_json(between: str) -> list[str] | None:
+    """Rewrite text outside quoted strings into JSON, split at its ``\\x01`` markers (each
+    stands for a string; the quotes round the marker stay on the pieces either side of it).
+    None when the text holds anything the token loop must decide (a backslash, a bracket,
+    an atom running into a quote, a comment line, a blank that is no separator to KiCad)."""
+    if "\\" in between or "\x02" in between or "\x03" in between or "[" in between \
+            or "]" in between or _ATOM_BEFORE_QUOTE.search(between) \
+            or ("#" in between and _COMMENT_LINE.search(between)):
+        return None
+    if between.isascii():
+        if any(c in between for c in _ODD_BLANK_ASCII):
+            return None
+    elif _ODD_BLANK.search(between):
+        return None
+    tokens = between.replace("(", " ( ").replace(")", " ) ").replace("\x01", " \x01 ").split()
+    body = ('"' + '","'.join(tokens) + '"').replace('"(",")"', "[]").replace('"(",', "[") \
+        .replace(',")"', "]")
+    return body.split("\x01")
 
 
 def _deeper_than(tree: list, limit: int) -> bool:
