@@ -181,3 +181,21 @@ def test_catalog_address_keeps_its_origin_when_config_sets_only_speed():
     cfg = parse_config("version: 1\nparts:\n  - match: {ref: U5}\n    max_mode: standard\n")
     info = describe_parts(d, cfg)["U5"]
     assert info.address_origin == "catalog" and info.max_mode == "standard"
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_catalog_globs_match_exactly_as_fnmatch_does(seed):
+    """The catalog's quick glob matching (prefix, exact name, else a regular expression)
+    agrees with the standard library's fnmatch.fnmatchcase, the rules the format names."""
+    import fnmatch
+    import random
+
+    from netaudit.catalog.loader import _Globs
+
+    rng = random.Random(seed)
+    alphabet = ["A", "B", "1", "*", "?", "[AB]", "[!A]", "-", "."]
+    globs = tuple("".join(rng.choice(alphabet) for _ in range(rng.randrange(1, 6))) for _ in range(3))
+    matcher = _Globs(globs)
+    for _ in range(200):
+        text = "".join(rng.choice("AB1-.C") for _ in range(rng.randrange(0, 7)))
+        assert matcher.match(text) == any(fnmatch.fnmatchcase(text, g) for g in globs), (globs, text)

@@ -99,9 +99,8 @@ class CatalogEntry:
     line: int
 
     def __post_init__(self) -> None:
-        for name, globs in (("_value_re", self.values), ("_lib_re", self.lib_parts)):
-            pattern = "|".join(f"(?:{translate(g)})" for g in globs)
-            object.__setattr__(self, name, re.compile(pattern) if globs else None)
+        object.__setattr__(self, "_value_glob", _Globs(self.values))
+        object.__setattr__(self, "_lib_glob", _Globs(self.lib_parts))
 
     def matches(self, part: Part) -> bool:
         return self.matches_names(_part_numbers(part), part.lib_part.strip().upper())
@@ -109,9 +108,39 @@ class CatalogEntry:
     def matches_names(self, numbers: tuple[str, ...], symbol: str) -> bool:
         """``numbers``: the upper-case value and part-number fields; ``symbol``: the
         upper-case symbol name."""
-        if self._value_re is not None and any(self._value_re.match(n) for n in numbers):
+        if any(self._value_glob.match(n) for n in numbers):
             return True
-        return bool(symbol) and self._lib_re is not None and bool(self._lib_re.match(symbol))
+        return bool(symbol) and self._lib_glob.match(symbol)
+
+
+class _Globs:
+    """Case-folded shell globs (``fnmatch`` rules), matched as cheaply as their shape allows:
+    ``TMP102*`` by a prefix test, ``PCA9548A`` by equality, anything else by the regular
+    expression ``fnmatch.translate`` gives (compiled on first use: most never are)."""
+
+    __slots__ = ("prefixes", "names", "patterns", "_regex")
+
+    def __init__(self, globs: tuple[str, ...]):
+        special = set("*?[")
+        prefixes, names, patterns = [], set(), []
+        for g in globs:
+            if not special & set(g):
+                names.add(g)
+            elif g.endswith("*") and not special & set(g[:-1]):
+                prefixes.append(g[:-1])
+            else:
+                patterns.append(g)
+        self.prefixes, self.names, self.patterns = tuple(prefixes), frozenset(names), tuple(patterns)
+        self._regex: re.Pattern | None = None
+
+    def match(self, text: str) -> bool:
+        if text in self.names or (self.prefixes and text.startswith(self.prefixes)):
+            return True
+        if not self.patterns:
+            return False
+        if self._regex is None:
+            self._regex = re.compile("|".join(f"(?:{translate(g)})" for g in self.patterns))
+        return self._regex.match(text) is not None
 
 
 def _part_numbers(part: Part) -> tuple[str, ...]:
