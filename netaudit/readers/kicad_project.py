@@ -2,15 +2,21 @@
 
 By default the schematics are read by netaudit's own reader (``kicad_schematic``), which
 needs no KiCad installed and gives the Design KiCad's netlist export would give. With
-``use_kicad_cli`` the netlist is exported by KiCad's own ``kicad-cli`` into a temporary
-folder and read with the netlist reader. Both routes give the same Design (path, format
-and digest included); the design files are only read.
+``use_kicad_cli`` the netlist is exported by KiCad's own ``kicad-cli`` and read with the
+netlist reader. Both routes give the same Design (path, format and digest included).
+
+The design files and their folder are only read. kicad-cli creates and deletes a lock file
+(``~NAME.kicad_pro.lck``) beside the project it opens, so it is run on a copy in a
+temporary folder: the project's schematics, project file and library tables (subfolders
+included), and the sheets the schematics name by a relative path outside the folder, all
+in the same layout relative to one another.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import hashlib
+import os
 import re
 import shutil
 import subprocess
@@ -78,13 +84,16 @@ def read(path: Path, timeout_s: float = 300.0, use_kicad_cli: bool = False) -> D
 
 
 def _export(path: Path, sch: Path, timeout_s: float) -> Design:
-    """The Design of KiCad's own netlist export (kicad-cli) of the schematic ``sch``."""
+    """The Design of KiCad's own netlist export (kicad-cli) of the schematic ``sch``, made
+    from a copy of the project in a temporary folder."""
     cli = kicad_cli()
     if cli is None:
         raise InputError(f"reading a schematic needs kicad-cli, which is not installed: {EXPORT_HINT}",
                          str(path))
+    folder = sch.resolve().parent
     with tempfile.TemporaryDirectory(prefix="netaudit-") as tmp:
         out = Path(tmp) / "export.net"
+        work = working_copy(sch, Path(tmp) / "project")
         try:
             # Run in the schematic's folder with its bare name, as KiCad's own editor names
             # the root sheet file (the netlist's Sheetfile of root-sheet parts).
@@ -92,19 +101,72 @@ def _export(path: Path, sch: Path, timeout_s: float) -> Design:
                 [cli, "sch", "export", "netlist", "--format", "kicadsexpr", "-o", str(out),
                  sch.name],
                 capture_output=True, text=True, timeout=timeout_s, check=False,
-                cwd=str(sch.resolve().parent))
+                cwd=str(work))
         except subprocess.TimeoutExpired:
             raise InputError(f"kicad-cli took longer than {timeout_s:.0f} s to export the netlist",
                              str(sch)) from None
         if proc.returncode != 0 or not out.is_file():
             detail = (proc.stderr or proc.stdout or "").strip().splitlines()
-            why = detail[-1] if detail else f"exit code {proc.returncode}"
+            why = detail[-1].replace(str(work), str(folder)) if detail else f"exit code {proc.returncode}"
             newer = _newer_than_cli(sch, cli)
             if newer:
                 raise InputError(f"kicad-cli could not export the netlist ({why}): {newer}", str(sch))
             raise InputError(f"kicad-cli could not export the netlist ({why})", str(sch))
         data = read_bytes(out)
-        return kicad_netlist.read(decode_text(data, out), out, "")
+        design = kicad_netlist.read(decode_text(data, out), out, "")
+    # The schematic the export came from, as kicad-cli names it when run in the project folder.
+    return dataclasses.replace(design, source=str(folder / sch.name))
+
+
+# What kicad-cli reads of a project besides its sheets: the project file (text variables,
+# net classes) and the library tables. Folders of backups, version control and the like
+# are left out.
+_PROJECT_FILES = (".kicad_sch", ".kicad_pro", "-lib-table")
+_SKIPPED_FOLDER = re.compile(r"^\.|-backups$|^__pycache__$|^node_modules$")
+_SHEET_FILE = re.compile(r'\(property\s+"Sheet ?file"\s+"((?:[^"\\]|\\.)*)"')
+
+
+def working_copy(sch: Path, dest: Path) -> Path:
+    """Copy what kicad-cli reads of the project of ``sch`` under ``dest``, keeping the files'
+    layout relative to one another; return the copy of the schematic's folder.
+
+    Copied: every schematic, project file and library table in the folder and its
+    subfolders, and every sheet a copied schematic names by a relative path leading out
+    of the folder (followed sheet by sheet, as KiCad resolves them: from the naming
+    sheet's folder). A sheet named by an absolute path is left to be read where it is."""
+    folder = sch.resolve().parent
+    files: dict[Path, Path] = {folder / sch.name: sch.resolve()}   # where it is -> what to read
+    for here, dirs, names in os.walk(folder):
+        dirs[:] = sorted(d for d in dirs if not _SKIPPED_FOLDER.search(d))
+        for name in names:
+            f = Path(here) / name
+            if name.endswith(_PROJECT_FILES) and f.is_file():
+                files.setdefault(f, f)
+    todo = [f for f in files if f.suffix == ".kicad_sch"]
+    seen = set(todo)
+    while todo:
+        sheet = todo.pop()
+        text = read_bytes(files[sheet]).decode("utf-8", "replace")
+        for m in _SHEET_FILE.finditer(text):
+            name = re.sub(r"\\(.)", r"\1", m.group(1)).replace("\\", "/")
+            if not name or os.path.isabs(name):
+                continue
+            child = Path(os.path.normpath(sheet.parent / name))
+            if child not in seen and child.is_file():
+                seen.add(child)
+                files.setdefault(child, child)
+                todo.append(child)
+    base = Path(os.path.commonpath([folder, *(f.parent for f in files)]))
+    for where, source in files.items():
+        target = dest / where.relative_to(base)
+        target.parent.mkdir(parents=True, exist_ok=True)
+        try:
+            shutil.copyfile(source, target)
+        except OSError as exc:
+            raise InputError(f"cannot read: {exc.strerror or exc}", str(source)) from None
+    work = dest / folder.relative_to(base)
+    work.mkdir(parents=True, exist_ok=True)
+    return work
 
 
 _GENERATOR = re.compile(r'\(generator_version\s+"?(\d+)(?:\.(\d+))?')
