@@ -30,6 +30,7 @@ from __future__ import annotations
 import dataclasses
 import re
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Mapping
 
 from .model import Design, Part
@@ -56,11 +57,16 @@ def _sequencing(name: str) -> bool:
     return any(_SEQUENCING.match(t) for t in re.split(r"[^A-Z0-9]+", strip_markup(name).upper()) if t)
 
 
+_NOT_PIN_NAME_CHARS = re.compile(r"[^A-Z0-9+]")
+
+
+@lru_cache(maxsize=1 << 16)  # pin names repeat across a design's parts
 def norm_pin(name: str) -> str:
     """A pin name reduced to capitals, digits and '+': ``V_{CC(A)}`` -> ``VCCA``."""
-    return re.sub(r"[^A-Z0-9+]", "", strip_markup(name).upper())
+    return _NOT_PIN_NAME_CHARS.sub("", strip_markup(name).upper())
 
 
+@lru_cache(maxsize=1 << 16)
 def _is_io_pin(name: str) -> bool:
     n = norm_pin(name)
     if n.startswith("VREF") or re.match(r"^V(?:CC|DD)[AB12]$", n):

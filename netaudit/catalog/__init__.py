@@ -37,6 +37,9 @@ class PartInfo:
     catalog_entry: str | None = None   # name of the catalog entry that matched
 
 
+_NOTHING = PartInfo()
+
+
 def _merge(base: PartInfo, top: PartInfo) -> PartInfo:
     changes = {f.name: getattr(top, f.name) for f in fields(PartInfo)
                if f.name != "source" and getattr(top, f.name) is not None}
@@ -63,11 +66,14 @@ def describe_parts(design: Design, config: Config) -> dict[str, PartInfo]:
             if key not in known:
                 known[key] = lookup_key(*key)
             info = known[key]
+        rules = config.part_rules_for(part.ref, part.value, part.lib, part.lib_part)
+        if info is None and not rules:
+            continue
         info = info or PartInfo()
-        for r in config.part_rules_for(part.ref, part.value, part.lib, part.lib_part):
+        for r in rules:
             info = _merge(info, PartInfo(r.role, r.address, r.io_supply_pin, r.max_mode,
                                          r.tolerant_volts, r.pin_capacitance_f, None, "config",
                                          address_origin="config" if r.address is not None else None))
-        if info != PartInfo():
+        if info != _NOTHING:
             out[part.ref] = info
     return out

@@ -60,6 +60,8 @@ def find_resistors(design: Design) -> list[Resistor]:
     """Every two-ended resistor element whose both ends are on nets."""
     out = []
     for part in design.parts:
+        if part.ref[:1] not in ("R", "r") and part.lib_part[:1] not in ("R", "r"):
+            continue  # every reference and symbol name the two tests below accept starts with R
         if _is_resistor(part):
             numbers = sorted({p.number for p in part.pins} or {"1", "2"})
             pins = [pn for pn in numbers if design.net_of(part.ref, pn)]
