@@ -51,22 +51,26 @@ def root_schematic(path: Path) -> Path:
     return path
 
 
-def board_beside(sch: Path):
-    """The routed geometry of the project's board (``<root name>.kicad_pcb`` beside the root
-    schematic), or None when there is none. Its nets are matched to the schematic's by name."""
+def board_beside(sch: Path) -> Design | None:
+    """The project's board (``<root name>.kicad_pcb`` beside the root schematic) as read on
+    its own, or None when there is none. Its nets are matched to the schematic's by name."""
     pcb = sch.with_suffix(".kicad_pcb")
-    return kicad_board.read_board(pcb) if pcb.is_file() else None
+    return kicad_board.read_file(pcb) if pcb.is_file() else None
 
 
 def kicad_cli() -> str | None:
     return shutil.which("kicad-cli")
 
 
-def project_digest(sch: Path) -> str:
-    """SHA-256 over every schematic in the project folder (name and content, sorted)."""
+def project_digest(sch: Path, board: Design | None = None) -> str:
+    """SHA-256 over every schematic in the project folder and the board read with them
+    (each file's name and the SHA-256 of its bytes, schematics sorted by name, the board
+    last): a changed byte in any of them changes the digest."""
     h = hashlib.sha256()
     for f in sorted(sch.parent.glob("*.kicad_sch")):
         h.update(f.name.encode() + b"\0" + hashlib.sha256(read_bytes(f)).digest())
+    if board is not None:
+        h.update(Path(board.path).name.encode() + b"\0" + bytes.fromhex(board.sha256))
     return h.hexdigest()
 
 
@@ -79,8 +83,9 @@ def read(path: Path, timeout_s: float = 300.0, use_kicad_cli: bool = False) -> D
     else:
         from . import kicad_schematic  # the engine loads only when a schematic is read
         design = kicad_schematic.read(sch)
-    return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch),
-                               board=board_beside(sch))
+    board = board_beside(sch)
+    return dataclasses.replace(design, path=str(path), format=FORMAT, sha256=project_digest(sch, board),
+                               board=board.board if board is not None else None)
 
 
 def _export(path: Path, sch: Path, timeout_s: float) -> Design:
