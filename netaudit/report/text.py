@@ -7,11 +7,12 @@ from typing import Callable
 
 from .. import __version__
 from ..addressing import address_map
-from ..results import Audit, Finding, Line, Segment, Severity
+from ..results import Audit, Finding, Line, LineBudget, Segment, Severity
 from ..terminal import visible
 from ..units import format_si
 from .json import CAUTION
 from .messages import phrase
+from .svg import CAPACITANCE_SOURCES
 
 _COLOURS = {Severity.ERROR: "red", Severity.WARNING: "yellow", Severity.INFO: "cyan"}
 
@@ -34,11 +35,20 @@ def _line_row(line: Line) -> str:
     row = f"    {name}  {nets}\n      pull-ups: {'; '.join(pulls) or 'none'}"
     b = line.budget
     if b is not None and b.capacitance_farads is not None:
-        row += f"\n      Cb {_fmt(b.capacitance_farads, 'F')}"
+        row += f"\n      Cb {_fmt(b.capacitance_farads, 'F')}{_capacitance_sum(b)}"
         if b.rp_ohms is not None:
-            row += (f", Rp {_fmt(b.rp_ohms, 'Ω')} (window {_fmt(b.rp_min_ohms, 'Ω')} to {_fmt(b.rp_max_ohms, 'Ω')})"
+            row += (f"\n      Rp {_fmt(b.rp_ohms, 'Ω')} (window {_fmt(b.rp_min_ohms, 'Ω')} to {_fmt(b.rp_max_ohms, 'Ω')})"
                     f", rise {_fmt(b.rise_time_s, 's')} of {_fmt(b.rise_time_max_s, 's')} allowed")
     return row
+
+
+def _capacitance_sum(b: LineBudget) -> str:
+    """`` = pins 20 pF + capacitors 100 pF``: where the line's capacitance comes from, in the
+    order the HTML bar stacks it, sources that add nothing left out."""
+    parts = b.capacitance_parts
+    keys = [k for k in CAPACITANCE_SOURCES if k in parts] + sorted(k for k in parts if k not in CAPACITANCE_SOURCES)
+    terms = [f"{k} {_fmt(parts[k], 'F')}" for k in keys if parts[k]]
+    return " = " + " + ".join(terms) if terms else ""
 
 
 def _plural(n: int, word: str) -> str:
