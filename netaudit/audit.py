@@ -46,7 +46,7 @@ def _audit_design(design: Design, config: Config, mode: str | None) -> Audit:
     roles = {ref: info.role for ref, info in parts.items() if info.role}
     topology = find_buses(design, rails, roles=roles, bus_configs=config.buses,
                           default_mode=default_mode)
-    buses = budget_buses(design, topology.buses, rails, parts, config)
+    buses = budget_buses(design, topology.buses, rails, parts, config, conn=topology.conn)
     resolutions = resolve_buses(design, buses, rails, parts, topology.conn)
     buses = assign_addresses(buses, resolutions, parts)
     domains = Domains(design, rails, parts, topology.conn)

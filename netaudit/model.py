@@ -10,6 +10,7 @@ precomputed indexes, not behaviour.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Iterable, Mapping, NamedTuple
 
 # Field names and values engineers use to mark a part as not fitted
@@ -83,7 +84,13 @@ class Part(NamedTuple):
 
     @property
     def fitted(self) -> bool:
-        return not is_not_fitted(self.value, self.fields, self.dnp, self.exclude_from_bom)
+        return not _not_fitted(self.value, self.fields, self.dnp, self.exclude_from_bom)
+
+
+@lru_cache(maxsize=1 << 16)  # asked for every part by several stages; values repeat
+def _not_fitted(value: str, fields: tuple[tuple[str, str], ...], dnp: bool,
+                exclude_from_bom: bool) -> bool:
+    return is_not_fitted(value, fields, dnp, exclude_from_bom)
 
 
 def is_not_fitted(value: str, fields: Iterable[tuple[str, str]], dnp: bool,

@@ -114,12 +114,14 @@ def complete_nodes(parts, nets):
     """
     from ..model import Net, Node
 
-    pins = {p.ref: {pin.number: pin for pin in p.pins} for p in parts}
+    pins: dict | None = None  # built when a first node needs it
     out = []
     for net in nets:
         if all(node.pin_function or node.pin_type for node in net.nodes):
             out.append(net)
             continue
+        if pins is None:
+            pins = {p.ref: {pin.number: pin for pin in p.pins} for p in parts}
         nodes = []
         for node in net.nodes:
             pin = pins.get(node.ref, {}).get(node.pin)

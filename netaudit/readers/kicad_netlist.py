@@ -89,18 +89,30 @@ def _atoms(item: list) -> dict[str, str]:
 
 
 def _net(n: list, legacy: bool) -> Net:
-    """One ``(net (code ..) (name ..) (class ..) (node ..) ...)``."""
+    """One ``(net (code ..) (name ..) (class ..) (node ..) ...)``. A node's fields are read
+    as :func:`_atoms` reads them (first occurrence wins), written out: this loop runs for
+    every pin of the design."""
     nodes = []
     for d in n[1:]:
         if type(d) is not list or not d or d[0] != "node":
             continue
-        a = _atoms(d)
-        fn = a.get("pinfunction", "")
+        ref = pin = fn = kind = ""
+        for c in d[:0:-1]:  # last to first: an earlier occurrence overwrites a later one
+            if type(c) is list and len(c) > 1 and type(c[1]) is str:
+                key = c[0]
+                if key == "ref":
+                    ref = c[1]
+                elif key == "pin":
+                    pin = c[1]
+                elif key == "pinfunction":
+                    fn = c[1]
+                elif key == "pintype":
+                    kind = c[1]
         if legacy:
             fn = pin_name(fn, legacy)
         elif fn == "~":
             fn = ""
-        nodes.append(Node(a.get("ref", ""), a.get("pin", ""), fn, a.get("pintype", "")))
+        nodes.append(Node(ref, pin, fn, kind))
     name = unescape_kicad(sexpr.value(n, "name"))
     return Net(legacy_overbar(name) if legacy else name, tuple(nodes),
                sexpr.value(n, "code"), sexpr.value(n, "class"))
@@ -145,11 +157,9 @@ def _part(c: list, libpins: dict, sheet_files: dict[str, str]) -> Part:
         elif len(ch) > 1 and type(ch[1]) is str and key not in atoms:
             atoms[key] = ch[1]
     lib, lib_part = libsource.get("lib", ""), libsource.get("part", "")
-    return Part(
-        ref=atoms.get("ref", ""), value=atoms.get("value", ""),
-        footprint=atoms.get("footprint", ""), lib=lib, lib_part=lib_part,
-        description=libsource.get("description", ""),
-        fields=tuple(fields), dnp="dnp" in props, exclude_from_bom="exclude_from_bom" in props,
-        sheet_path=sheet_path, sheet_file=props.get("Sheetfile") or sheet_files.get(sheet_path, ""),
-        pins=libpins.get((lib, lib_part), ()),
-    )
+    return Part(  # positional (ref, value, footprint, lib, lib_part, description, fields,
+        # dnp, exclude_from_bom, sheet_path, sheet_file, pins): called once per part
+        atoms.get("ref", ""), atoms.get("value", ""), atoms.get("footprint", ""), lib, lib_part,
+        libsource.get("description", ""), tuple(fields) if fields else (), "dnp" in props,
+        "exclude_from_bom" in props, sheet_path,
+        props.get("Sheetfile") or sheet_files.get(sheet_path, ""), libpins.get((lib, lib_part), ()))

@@ -13,9 +13,8 @@ Facts of the trade used here (common practice, no source unless named):
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
 from functools import lru_cache
-from typing import Iterable, Mapping
+from typing import Iterable, Mapping, NamedTuple
 
 from ..model import Design, Part
 from ..results import Rail
@@ -32,9 +31,9 @@ _ARRAY_REF = re.compile(r"^(?:RN|RA|RP|RR)\d")
 _ARRAY_LIB = re.compile(r"^R_(?:Pack|Array|Network)\d*", re.IGNORECASE)
 
 
-@dataclass(frozen=True)
-class Resistor:
-    """One resistor element: a plain resistor, or one element of a resistor array."""
+class Resistor(NamedTuple):
+    """One resistor element: a plain resistor, or one element of a resistor array.
+    (A named tuple: a design has one per resistor, built at every audit.)"""
 
     ref: str
     ohms: float | None
@@ -64,10 +63,9 @@ def find_resistors(design: Design) -> list[Resistor]:
             continue  # every reference and symbol name the two tests below accept starts with R
         if _is_resistor(part):
             numbers = sorted({p.number for p in part.pins} or {"1", "2"})
-            pins = [pn for pn in numbers if design.net_of(part.ref, pn)]
-            if len(numbers) != 2 or len(pins) != 2:
+            if len(numbers) != 2:
                 continue
-            pairs = [(pins[0], pins[1])]
+            pairs = [(numbers[0], numbers[1])]  # both must be on nets: checked below
         elif _is_array(part):
             numbers = sorted((p.number for p in part.pins), key=lambda s: (len(s), s))
             n = len(numbers)
