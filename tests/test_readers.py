@@ -293,3 +293,30 @@ def test_xml_with_byte_order_mark_and_crlf_reads(tmp_path):
     path = tmp_path / "bms.xml"
     path.write_bytes(b"\xef\xbb\xbf" + xml.read_bytes().replace(b"\n", b"\r\n"))
     assert _same_content(read_design(path), read_design(xml))
+
+
+def test_a_node_field_given_twice_reads_as_its_first_occurrence(tmp_path):
+    # Hand-made: the netlist reader takes the first of repeated children, as sexpr.value does.
+    text = ('(export (version "E") (components (comp (ref "U1") (value "X")))\n'
+            ' (nets (net (code "1") (name "/SDA")\n'
+            '  (node (ref "U1") (pin "5") (pin "9") (pinfunction "SDA") (pinfunction "X")'
+            ' (pintype "bidirectional")))))\n')
+    path = tmp_path / "twice.net"
+    path.write_text(text, encoding="utf-8")
+    node = read_design(path).net("/SDA").nodes[0]
+    assert (node.ref, node.pin, node.pin_function, node.pin_type) == ("U1", "5", "SDA", "bidirectional")
+
+
+def test_the_demo_netlist_reads_the_same_through_the_reference_token_loop(monkeypatch):
+    # The JSON shortcut and the section-by-section model building must give the Design the
+    # plain token loop gives.
+    from netaudit.readers import kicad_netlist, sexpr
+    from netaudit.readers.common import sha256
+
+    demo = Path(__file__).resolve().parents[1] / "fixtures" / "demo" / "greenhouse.net"
+    text = demo.read_text(encoding="utf-8")
+    fast = kicad_netlist.read(text, demo, sha256(text.encode()))
+    monkeypatch.setattr(sexpr, "parse", sexpr.parse_tokens)
+    slow = kicad_netlist.read(text, demo, sha256(text.encode()))
+    assert fast == slow
+    assert len(fast.parts) > 20 and len(fast.nets) > 20
