@@ -63,12 +63,18 @@ def kicad_cli() -> str | None:
 
 
 def project_digest(sch: Path, board: Design | None = None) -> str:
-    """SHA-256 over every schematic in the project folder and the board read with them
-    (each file's name and the SHA-256 of its bytes, schematics sorted by name, the board
-    last): a changed byte in any of them changes the digest."""
+    """SHA-256 over the files a project's Design comes from (:func:`project_files`: the
+    schematics in the folder and its subfolders, sheets named from outside it, the project
+    file, whose text variables can change values, and the library tables) and the board
+    read with them. Each file counts by its path from the project folder and the SHA-256
+    of its bytes, sorted by path, the board last: a changed byte in any of them changes
+    the digest."""
+    folder = sch.resolve().parent
+    named = sorted((Path(os.path.relpath(where, folder)).as_posix(), source)
+                   for where, source in project_files(sch).items())
     h = hashlib.sha256()
-    for f in sorted(sch.parent.glob("*.kicad_sch")):
-        h.update(f.name.encode() + b"\0" + hashlib.sha256(read_bytes(f)).digest())
+    for name, source in named:
+        h.update(name.encode() + b"\0" + hashlib.sha256(read_bytes(source)).digest())
     if board is not None:
         h.update(Path(board.path).name.encode() + b"\0" + bytes.fromhex(board.sha256))
     return h.hexdigest()
@@ -132,13 +138,32 @@ _SHEET_FILE = re.compile(r'\(property\s+"Sheet ?file"\s+"((?:[^"\\]|\\.)*)"')
 
 
 def working_copy(sch: Path, dest: Path) -> Path:
-    """Copy what kicad-cli reads of the project of ``sch`` under ``dest``, keeping the files'
-    layout relative to one another; return the copy of the schematic's folder.
+    """Copy what kicad-cli reads of the project of ``sch`` (:func:`project_files`) under
+    ``dest``, keeping the files' layout relative to one another; return the copy of the
+    schematic's folder."""
+    folder = sch.resolve().parent
+    files = project_files(sch)
+    base = Path(os.path.commonpath([folder, *(f.parent for f in files)]))
+    for where, source in files.items():
+        target = dest / where.relative_to(base)
+        target.parent.mkdir(parents=True, exist_ok=True)
+        try:
+            shutil.copyfile(source, target)
+        except OSError as exc:
+            raise InputError(f"cannot read: {exc.strerror or exc}", str(source)) from None
+    work = dest / folder.relative_to(base)
+    work.mkdir(parents=True, exist_ok=True)
+    return work
 
-    Copied: every schematic, project file and library table in the folder and its
-    subfolders, and every sheet a copied schematic names by a relative path leading out
-    of the folder (followed sheet by sheet, as KiCad resolves them: from the naming
-    sheet's folder). A sheet named by an absolute path is left to be read where it is."""
+
+def project_files(sch: Path) -> dict[Path, Path]:
+    """The files of the project of ``sch``: where each is (as a path from the schematic's
+    folder, resolved) -> the file to read.
+
+    Every schematic, project file and library table in the folder and its subfolders,
+    and every sheet a schematic names by a relative path leading out of the folder
+    (followed sheet by sheet, as KiCad resolves them: from the naming sheet's folder). A
+    sheet named by an absolute path is left out."""
     folder = sch.resolve().parent
     files: dict[Path, Path] = {folder / sch.name: sch.resolve()}   # where it is -> what to read
     for here, dirs, names in os.walk(folder):
@@ -161,17 +186,7 @@ def working_copy(sch: Path, dest: Path) -> Path:
                 seen.add(child)
                 files.setdefault(child, child)
                 todo.append(child)
-    base = Path(os.path.commonpath([folder, *(f.parent for f in files)]))
-    for where, source in files.items():
-        target = dest / where.relative_to(base)
-        target.parent.mkdir(parents=True, exist_ok=True)
-        try:
-            shutil.copyfile(source, target)
-        except OSError as exc:
-            raise InputError(f"cannot read: {exc.strerror or exc}", str(source)) from None
-    work = dest / folder.relative_to(base)
-    work.mkdir(parents=True, exist_ok=True)
-    return work
+    return files
 
 
 _GENERATOR = re.compile(r'\(generator_version\s+"?(\d+)(?:\.(\d+))?')
