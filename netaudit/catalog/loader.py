@@ -56,7 +56,7 @@ from pathlib import Path
 import yaml
 
 from ..config import (SAFE_LOADER, MAX_10BIT, MAX_7BIT, MODES, PF, ROLES, FixedAddress, PinBitsAddress,
-                      PinTieAddress, _Reader)
+                      PinTieAddress, NodeReader as _Reader)
 from ..errors import InputError
 from ..model import Part
 from . import PartInfo

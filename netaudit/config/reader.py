@@ -1,11 +1,9 @@
-"""netaudit.yaml (version 1) -> a typed, validated, frozen :class:`Config`.
+"""netaudit.yaml text -> :class:`~netaudit.config.model.Config`, checked as it is read.
 
-The file is composed into a YAML node tree with PyYAML's safe loader and walked by hand,
-so every error names the key path (``buses[0].mode``) and the line and column it sits on.
-Nothing is ever constructed from a tag other than the plain YAML scalars.
-
-Units: the file speaks pF, mm and volts; the Config holds SI floats (farads, metres, volts,
-ohms) under names that carry the unit (``pin_capacitance_f``, ``length_m``).
+The file is composed into a YAML node tree with PyYAML's safe loader and walked by hand
+(:class:`NodeReader`), so every error names the key path (``buses[0].mode``) and the line
+and column it sits on. Nothing is ever constructed from a tag other than the plain YAML
+scalars. The part catalog (netaudit.catalog.loader) walks its files with the same reader.
 
 Names (nets, refs, pins, buses) are taken as the text written, so ``1``, ``yes`` or
 ``0x10`` as a net or pin name stay text and never become numbers or booleans.
@@ -16,222 +14,17 @@ from __future__ import annotations
 import hashlib
 import math
 import re
-from dataclasses import dataclass, field
-from fnmatch import fnmatchcase
 from pathlib import Path
-from typing import Any, Union
 
 import yaml
 
-from .errors import InputError
-from .terminal import ACTIVE
-
-# libyaml's loader when PyYAML was built with it (same nodes and marks, about 10x faster).
-SAFE_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
-
-CONFIG_FILENAME = "netaudit.yaml"
-CONFIG_VERSION = 1
-MODES = ("standard", "fast", "fast-plus", "smbus", "smbus-400k", "smbus-1m")
-DEFAULT_MODE = "fast"
-ROLES = ("controller", "target", "mux", "translator", "repeater")
-PIN_TIES = ("GND", "VDD", "SDA", "SCL")  # what an address pin can be tied to
-RULE_IDS = frozenset({
-    "bus-line-unpaired", "bus-lines-swapped", "bus-pin-unconnected", "bus-lone-device",
-    "pullup-missing", "pullup-duplicated", "pullup-parallel", "pullup-rail-mismatch",
-    "pullup-to-signal", "pullup-too-strong", "pullup-too-weak", "capacitance-over-limit",
-    "low-level-margin", "rail-overvoltage", "rail-high-level-unmet", "rail-voltage-unknown",
-    "translator-wiring", "address-collision", "address-reserved", "address-strap-floating",
-    "address-unknown", "mux-address-overlap", "speed-unsupported",
-})
-DEFAULT_PIN_CAPACITANCE_F = 10e-12  # Ci max per I/O pin, UM10204 Rev. 6 Table 9
-DEFAULT_TRACE_F_PER_M = 0.1e-9      # 0.1 pF/mm pre-layout estimate, common practice, no source
-PF, MM = 1e-12, 1e-3
-# The largest numbers accepted: far beyond any board (1 kV, 1 mF, 10 km, 1 TΩ), they keep
-# every sum and product of the line budget finite. Common practice, no source.
-MAX_VOLTS, MAX_PF, MAX_PF_PER_MM, MAX_MM, MAX_OHMS = 1e3, 1e9, 1e6, 1e7, 1e12
-MAX_7BIT, MAX_10BIT = 0x7F, 0x3FF   # UM10204 Rev. 6 sections 3.1.10 and 3.1.11
-
-
-@dataclass(frozen=True)
-class FixedAddress:
-    """One address; ``ten_bit`` when written as ``{ten_bit: 0x...}`` (0x000-0x3FF)."""
-
-    value: int
-    ten_bit: bool = False
-
-
-@dataclass(frozen=True)
-class PinBitsAddress:
-    """``{base: 0x50, pins: {A0: 0, ...}}``: each listed pin tied high sets its bit."""
-
-    base: int
-    pins: dict[str, int]
-
-    def address_for(self, pins_high: Any) -> int:
-        """The address when the pins named in ``pins_high`` are tied high, the rest low."""
-        value = self.base
-        for pin, bit in self.pins.items():
-            if pin in pins_high:
-                value |= 1 << bit
-        return value
-
-
-@dataclass(frozen=True)
-class PinTieAddress:
-    """``{pin: ADDR, map: {GND: 0x48, ...}}``: the address follows what one pin is tied to."""
-
-    pin: str
-    by_tie: dict[str, int]  # keys from PIN_TIES
-
-    def address_for(self, tie: str) -> int | None:
-        return self.by_tie.get(tie)
-
-
-Address = Union[FixedAddress, PinBitsAddress, PinTieAddress]
-
-
-@dataclass(frozen=True)
-class Defaults:
-    mode: str = DEFAULT_MODE
-    pin_capacitance_f: float = DEFAULT_PIN_CAPACITANCE_F
-    trace_f_per_m: float = DEFAULT_TRACE_F_PER_M
-
-
-@dataclass(frozen=True)
-class OffboardPullup:
-    """A pull-up on another board, on each line of the bus."""
-
-    ohms: float
-    rail: str
-
-
-@dataclass(frozen=True)
-class BusConfig:
-    name: str
-    sda: tuple[str, ...]
-    scl: tuple[str, ...]
-    mode: str | None = None  # None: the defaults' mode
-    offboard_pullup: OffboardPullup | None = None
-    extra_capacitance_f: float = 0.0
-    line: int | None = field(default=None, compare=False)     # where it is written,
-    source: str | None = field(default=None, compare=False)   # for errors found later
-
-
-@dataclass(frozen=True)
-class TraceConfig:
-    """Exactly one of the two is set."""
-
-    length_m: float | None = None
-    capacitance_f: float | None = None
-
-
-@dataclass(frozen=True)
-class PartMatch:
-    """Globs (case-sensitive); a part matches when every given glob matches.
-
-    A ``lib_part`` glob with a ``:`` is matched against ``lib:part``, otherwise
-    against the symbol name alone.
-    """
-
-    ref: str | None = None
-    value: str | None = None
-    lib_part: str | None = None
-
-    def matches(self, ref: str, value: str = "", lib: str = "", lib_part: str = "") -> bool:
-        if self.ref is not None and not fnmatchcase(ref, self.ref):
-            return False
-        if self.value is not None and not fnmatchcase(value, self.value):
-            return False
-        if self.lib_part is not None:
-            subject = f"{lib}:{lib_part}" if ":" in self.lib_part else lib_part
-            if not fnmatchcase(subject, self.lib_part):
-                return False
-        return True
-
-
-@dataclass(frozen=True)
-class PartRule:
-    match: PartMatch
-    role: str | None = None
-    address: Address | None = None
-    io_supply_pin: str | None = None
-    max_mode: str | None = None
-    tolerant_volts: float | None = None
-    pin_capacitance_f: float | None = None
-    line: int | None = field(default=None, compare=False)     # where it is written,
-    source: str | None = field(default=None, compare=False)   # for errors found later
-
-
-@dataclass(frozen=True)
-class Waiver:
-    rule: str
-    reason: str
-    refs: tuple[str, ...] = ()
-    nets: tuple[str, ...] = ()
-    bus: str | None = None
-    line: int | None = field(default=None, compare=False)     # where it is written,
-    source: str | None = field(default=None, compare=False)   # for errors found later
-
-
-@dataclass(frozen=True)
-class Config:
-    """A whole netaudit.yaml; ``path`` and ``sha256`` identify the file for the report."""
-
-    version: int = CONFIG_VERSION
-    rails: dict[str, float] = field(default_factory=dict)
-    defaults: Defaults = Defaults()
-    buses: tuple[BusConfig, ...] = ()
-    traces: dict[str, TraceConfig] = field(default_factory=dict)
-    parts: tuple[PartRule, ...] = ()
-    waivers: tuple[Waiver, ...] = ()
-    path: str | None = None
-    sha256: str | None = None
-
-    @classmethod
-    def empty(cls, path: str | None = None, sha256: str | None = None) -> "Config":
-        return cls(path=path, sha256=sha256)
-
-    def bus_named(self, name: str) -> BusConfig | None:
-        return next((b for b in self.buses if b.name == name), None)
-
-    def part_rules_for(self, ref: str, value: str = "", lib: str = "",
-                       lib_part: str = "") -> tuple[PartRule, ...]:
-        """The part rules that match a part, in file order."""
-        return tuple(r for r in self.parts if r.match.matches(ref, value, lib, lib_part))
-
-
-# ---------------------------------------------------------------- finding and loading
-
-def find_config(design_path: str | Path) -> Path | None:
-    """netaudit.yaml beside a design file, or inside it when it is a folder."""
-    p = Path(design_path)
-    candidate = (p if p.is_dir() else p.parent) / CONFIG_FILENAME
-    return candidate if candidate.is_file() else None
-
-
-def load_config(path: str | Path) -> Config:
-    p = Path(path)
-    try:
-        if p.exists() and not p.is_dir() and not p.is_file():
-            raise InputError("config path is not a regular file", str(p))  # a pipe would block
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError("config file not found", str(p)) from None
-    except IsADirectoryError:
-        raise InputError("config path is a folder, not a file", str(p)) from None
-    except OSError as exc:
-        raise InputError(f"cannot read config file: {exc.strerror}", str(p)) from None
-    body = data[3:] if data.startswith(b"\xef\xbb\xbf") else data
-    try:
-        text = body.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        start = exc.start + len(data) - len(body)
-        line_start = data.rfind(b"\n", 0, start) + 1
-        column = len(data[line_start:start].decode("utf-8", "replace")) + 1
-        raise InputError(f"config is not UTF-8 text (byte 0x{data[start]:02X}); save it as UTF-8",
-                         str(p), data.count(b"\n", 0, start) + 1, column) from None
-    return parse_config(text, str(p), sha256=hashlib.sha256(data).hexdigest())
-
+from ..errors import InputError
+from .model import (
+    CONFIG_VERSION, MAX_10BIT, MAX_7BIT, MAX_MM, MAX_OHMS, MAX_PF, MAX_PF_PER_MM, MAX_VOLTS,
+    MM, MODES, PF, PIN_TIES, ROLES, RULE_IDS, SAFE_LOADER, Address, BusConfig, Config,
+    Defaults, FixedAddress, OffboardPullup, PartMatch, PartRule, PinBitsAddress,
+    PinTieAddress, TraceConfig, Waiver,
+)
 
 def parse_config(text: str, path: str | Path | None = None, *,
                  sha256: str | None = None) -> Config:
@@ -263,7 +56,7 @@ def parse_config(text: str, path: str | Path | None = None, *,
         raise InputError(f"not valid YAML: {exc}", where) from None
     if root is None or _is_null(root):
         return Config.empty(where, digest)
-    return _Reader(where).config(root, digest)
+    return NodeReader(where).config(root, digest)
 
 
 MAX_NESTING = 50  # a netaudit.yaml nests five levels deep (parts[0].address.pins.A0)
@@ -328,7 +121,11 @@ def _hex(value: int) -> str:
     return f"0x{value:02X}"
 
 
-class _Reader:
+class NodeReader:
+    """Reads values of known shapes from YAML nodes; :meth:`fail` raises the InputError
+    (file, line, column, key path) that every mistake becomes. ``config`` reads a whole
+    netaudit.yaml; the part catalog subclasses it for its own files."""
+
     def __init__(self, path: str | None) -> None:
         self.path = path
 
@@ -531,7 +328,7 @@ class _Reader:
             return self.number(node, kp, positive=True, at_most=MAX_OHMS)
         value = None
         try:
-            from .units import parse_value  # lazy: units.py is optional at import time
+            from ..units import parse_value  # lazy: units.py is optional at import time
         except ImportError:
             parse_value = None
         if parse_value is not None:
@@ -646,109 +443,3 @@ class _Reader:
                       bus=self.text(m["bus"][1], f"{kp}.bus", "a bus name")
                       if "bus" in m else None,
                       line=node.start_mark.line + 1, source=self.path)
-
-
-# ---------------------------------------------------------------- starter file
-
-def starter_yaml(rails: dict[str, float | None],
-                 buses: list[tuple[str, list[str], list[str]]], mode: str) -> str:
-    """A commented netaudit.yaml from what was detected; ``parse_config`` accepts it.
-
-    ``rails`` maps net -> volts (None: unknown, written as a commented line to fill in);
-    ``buses`` holds (name, SDA nets, SCL nets); a bus missing a line is written commented.
-    """
-    if mode not in MODES:
-        raise ValueError(f"unknown mode {mode!r}")
-    if len({name for name, _, _ in buses}) != len(buses):
-        raise ValueError("bus names must be unique")
-    out = ["# netaudit settings (format version 1), written by `netaudit init` from what",
-           "# it found in the design. Edit freely; every key is explained beside it.",
-           f"version: {CONFIG_VERSION}", "",
-           "# Supply nets and their voltages. A value here wins over the voltage netaudit",
-           "# reads from a net's name.",
-           "rails:"]
-    for net in sorted(rails):
-        volts = rails[net]
-        if volts is None or not math.isfinite(volts) or volts < 0:
-            out.append(f"  # {_yq(net)}:      # voltage unknown: uncomment and write "
-                       "its voltage in volts")
-        else:
-            out.append(f"  {_yq(net)}: {float(volts)!r}")
-    if not rails:
-        out.append("  # +3V3: 3.3")
-    out += ["", "defaults:",
-            f"  mode: {mode}                 # {' | '.join(MODES)}",
-            "  pin_capacitance_pf: 10     # per device pin when nothing better is known",
-            "  trace_pf_per_mm: 0.1       # pre-layout estimate for a net with no routed length",
-            "", "# The buses netaudit found. Rename them, set a mode per bus, or declare",
-            "# pull-ups and capacitance that live on another board.",
-            "buses:"]
-    for name, sda, scl in buses:
-        entry = [f"- name: {_yq(name, flow=True)}", f"  sda: {_ynets(sda)}",
-                 f"  scl: {_ynets(scl)}",
-                 f"  # mode: {mode}",
-                 "  # offboard_pullup: {ohms: 4700, rail: +3V3}",
-                 "  # extra_capacitance_pf: 0    # cable, connector, mating board"]
-        if sda and scl:
-            out += ["  " + line for line in entry]
-        else:
-            missing = "clock (SCL)" if sda else "data (SDA)"
-            out.append(f"  # no {missing} line was found for this bus: name it and remove "
-                       "the '#'s")
-            out += ["  # " + line for line in entry[:3]]
-    if not buses:
-        out.append("  # - {name: I2C_MAIN, sda: /SDA, scl: /SCL}")
-    out += ["", "# Per net: routed or estimated length, or a known capacitance.",
-            "traces:", "  # /SDA: {length_mm: 120}", "  # /SCL: {capacitance_pf: 14}",
-            "", "# Teach netaudit a part it does not know (match by ref, value or lib_part).",
-            "parts:",
-            "  # - match: {value: \"SENSOR-*\"}",
-            "  #   role: target            # controller | target | mux | translator | repeater",
-            "  #   address: 0x29           # or {base: 0x50, pins: {A0: 0, A1: 1}},",
-            "  #                           # or {pin: ADDR, map: {GND: 0x48, VDD: 0x49}},",
-            "  #                           # or {ten_bit: 0x2A5}",
-            "", "# Accepted findings stay in the report, marked, with the reason.",
-            "waivers:",
-            "  # - rule: pullup-parallel",
-            "  #   refs: [R12, R13]",
-            "  #   reason: \"why this is acceptable\"", ""]
-    return "\n".join(out)
-
-
-def _yq(text: str, flow: bool = False) -> str:
-    """``text`` as a YAML scalar: plain when it reads back unchanged, else double-quoted."""
-    probes = [f"{text}: 1", f"k: {text}"] + ([f"k: [{text}]", f"{{k: {text}}}"] if flow else [])
-    try:
-        plain = all(yaml.safe_load(p) in ({text: 1}, {"k": text}, {"k": [text]})
-                    for p in probes)
-    except yaml.YAMLError:
-        plain = False
-    if plain and text.strip() == text and text and not ACTIVE.search(text):
-        return text
-    return _double_quoted(text)
-
-
-def _double_quoted(text: str) -> str:
-    """``text`` as a YAML double-quoted scalar that reads back unchanged and shows plainly.
-
-    Escaped: the quote and the backslash; every character YAML does not allow raw (C0 and
-    C1 controls, DEL, U+FFFE, U+FFFF: YAML 1.2 section 5.1); those a YAML reader folds as line
-    breaks (NEL, LS, PS: section 5.4) or skips (the byte-order mark); and the bidirectional
-    controls, which would reorder the text on a reviewer's screen (netaudit.terminal.ACTIVE).
-    """
-    out = []
-    for ch in text:
-        code = ord(ch)
-        if ch in '"\\':
-            out.append("\\" + ch)
-        elif ACTIVE.match(ch) or code in (0xFFFE, 0xFFFF) or 0xD800 <= code <= 0xDFFF:
-            out.append(f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}")
-        else:
-            out.append(ch)
-    return '"' + "".join(out) + '"'
-
-
-def _ynets(nets: list[str]) -> str:
-    if len(nets) == 1:
-        return _yq(nets[0], flow=True)
-    return "[" + ", ".join(_yq(n, flow=True) for n in nets) + "]"
