@@ -434,13 +434,16 @@ def address_map(audit) -> list[dict]:
     addresses of its targets and multiplexers (and of any other device that has one), and
     the collision findings among them."""
     out = []
+    by_bus: dict[str, list] = {}
+    for f in audit.findings:
+        if f.rule in COLLISION_RULES:
+            by_bus.setdefault(f.bus, []).append(f)
     for dom in audit.address_domains:
         devices = [d for d in dom.devices if d.role in ADDRESSED_ROLES or d.address is not None]
         refs = {d.ref for d in devices}
         collisions = [{"rule": f.rule, "refs": list(f.refs),
                        "addresses": list(f.data.get("addresses", [])), "waived": f.waived}
-                      for f in audit.findings
-                      if f.rule in COLLISION_RULES and f.bus == dom.bus and set(f.refs) <= refs]
+                      for f in by_bus.get(dom.bus, ()) if set(f.refs) <= refs]
         out.append({
             "id": dom.id, "bus": dom.bus, "zones": list(dom.zones), "segments": list(dom.segments),
             "devices": [{"ref": d.ref, "address": format_address(d.address, d.address_10bit),

@@ -44,6 +44,7 @@ from __future__ import annotations
 import math
 import re
 from decimal import Decimal
+from functools import lru_cache
 from typing import Iterable
 
 OHM = "ohm"
@@ -371,6 +372,11 @@ def _decade_value(base: float, exponent: int) -> float:
     return float(f"{base}e{exponent}")
 
 
+@lru_cache(maxsize=512)  # every line's pull-up window asks for the same few decades
+def _decade(series: tuple[float, ...], exponent: int) -> tuple[float, ...]:
+    return tuple(_decade_value(base, exponent) for base in series)
+
+
 def series_values(name: str, lo: float, hi: float) -> list[float]:
     """Every value of E-series ``name`` (``"E6"``, ``"E12"``, ``"E24"``, ``"E3"``) in
     ``[lo, hi]``, ascending, over as many decades as the range spans.
@@ -383,11 +389,9 @@ def series_values(name: str, lo: float, hi: float) -> list[float]:
     if hi < lo:
         return []
     out = []
+    low, high = lo * (1 - _REL), hi * (1 + _REL)
     for exponent in range(math.floor(math.log10(lo)) - 1, math.floor(math.log10(hi)) + 2):
-        for base in bases:
-            v = _decade_value(base, exponent)
-            if lo * (1 - _REL) <= v <= hi * (1 + _REL):
-                out.append(v)
+        out.extend(v for v in _decade(bases, exponent) if low <= v <= high)
     return out
 
 

@@ -39,8 +39,16 @@ def _num(v):
 
 
 def _clean(obj):
+    """The document with string keys, lists for tuples and floats rounded to six figures
+    (non-finite ones as null). Plain types are told apart by ``type`` first: this walks
+    every value of the report."""
+    kind = type(obj)
+    if kind is str or kind is int or kind is bool or obj is None:
+        return obj
+    if kind is float:
+        return _num(obj)
     if isinstance(obj, dict):
-        return {str(k): _clean(v) for k, v in obj.items()}
+        return {k if type(k) is str else str(k): _clean(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
         return [_clean(v) for v in obj]
     return _num(obj)
