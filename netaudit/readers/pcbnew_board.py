@@ -29,7 +29,7 @@ import re
 import sys
 from typing import Any, Iterable
 
-from ..model import Design, Net, Node, Part, Pin, Sheet
+from ..model import Board, Design, Net, Node, Part, Pin, Sheet
 from .common import unescape_kicad
 
 FORMAT = "kicad-board"
@@ -94,6 +94,37 @@ def read_board(board: Any, api: Any = None) -> Design:
         parts=tuple(sorted(parts, key=lambda p: natural_key(p.ref))), nets=nets,
         sheets=tuple(Sheet(p, f) for p, f in sorted(sheets.items())),
     )
+
+
+def read_geometry(board: Any, api: Any = None) -> Board | None:
+    """The routed geometry (tracks, vias, stackup) of ``board`` as it stands in the editor,
+    edits not yet saved included; None when the module cannot write a board copy.
+
+    KiCad's own writer saves a copy of the open board into a temporary folder
+    (``pcbnew.SaveBoard(path, board, True)``: the board file only, no project settings; the
+    board keeps its own file name) and the ``.kicad_pcb`` reader reads it, so the live board
+    and a saved one are measured by the same code. The copy is deleted; the design's own
+    files are not touched."""
+    import dataclasses
+    import tempfile
+    from pathlib import Path
+
+    from . import kicad_board
+
+    api = api if api is not None else sys.modules.get("pcbnew")
+    save = getattr(api, "SaveBoard", None)
+    if save is None:
+        return None
+    with tempfile.TemporaryDirectory(prefix="netaudit-board-") as folder:
+        copy = Path(folder) / "live.kicad_pcb"
+        try:
+            saved = save(str(copy), board, True)
+        except (TypeError, RuntimeError, OSError):
+            return None
+        if saved is False or not copy.is_file():
+            return None
+        geometry = kicad_board.read_board(copy)
+    return dataclasses.replace(geometry, path=str(board.GetFileName()))
 
 
 def natural_key(text: str) -> tuple:

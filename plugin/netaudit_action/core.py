@@ -8,6 +8,7 @@ changes the board: the only thing it sets is the selection flag of board items.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -20,7 +21,7 @@ from netaudit import __version__  # noqa: E402  (after the path is set up)
 from netaudit.audit import audit_design  # noqa: E402
 from netaudit.config import Config, find_config, load_config  # noqa: E402
 from netaudit.readers.common import unescape_kicad  # noqa: E402
-from netaudit.readers.pcbnew_board import read_board  # noqa: E402
+from netaudit.readers.pcbnew_board import read_board, read_geometry  # noqa: E402
 from netaudit.report.io import write_atomic  # noqa: E402
 from netaudit.report.json import CAUTION  # noqa: E402
 from netaudit.report.messages import phrase  # noqa: E402
@@ -80,8 +81,12 @@ def load_board_config(board_path: str) -> Config:
 
 def audit_board(board: Any, api: Any = None, config: Config | None = None,
                 mode: str | None = None) -> Audit:
-    """Build the Design from the open board and run the same audit as the command line."""
+    """Build the Design from the open board, with its routing as it stands (unsaved edits
+    included), and run the same audit as the command line."""
     design = read_board(board, api)
+    geometry = read_geometry(board, api)
+    if geometry is not None:
+        design = dataclasses.replace(design, board=geometry)
     if config is None:
         config = load_board_config(design.path)
     return audit_design(design, config, mode)

@@ -180,3 +180,43 @@ def test_too_old_python_is_named_in_a_sentence(plugin_package):
     need = tuple(_paths.bundle_info().get("requires_python", (3, 10)))
     assert "needs Python" in _paths.python_problem((3, 8, 10))
     assert _paths.python_problem(need + (0,)) is None
+
+
+def test_the_open_board_is_audited_with_its_routing_as_the_saved_board_is(board_copy, plugin_package,
+                                                                          pcbnew_api):
+    """The live board's tracks and vias (through KiCad's own writer into a temporary copy)
+    equal what the .kicad_pcb reader finds in the saved file, and the budgets use them."""
+    from netaudit.readers import kicad_board
+    from netaudit_action import core
+    path, board = board_copy
+    audit = core.audit_board(board, pcbnew_api)
+    saved = kicad_board.read_board(path)
+    assert audit.design.board is not None
+    assert audit.design.board.runs == saved.runs and audit.design.board.vias == saved.vias
+    assert audit.design.board.path == str(path)
+    routed = [line.budget.capacitance_parts.get("routing", 0.0)
+              for b in audit.buses for s in b.segments for line in s.lines]
+    assert routed and all(c > 0 for c in routed)   # bms-c1's I2C lines are routed
+
+
+def test_an_unsaved_edit_of_the_routing_reaches_the_audit(board_copy, plugin_package, pcbnew_api):
+    """Deleting the SDA tracks in the editor (not saved) lowers SDA's routed capacitance."""
+    from netaudit_action import core
+    path, board = board_copy
+    on_disk = path.read_bytes()
+
+    def sda_routing(audit):
+        return [s.sda.budget.capacitance_parts.get("routing", 0.0)
+                for b in audit.buses for s in b.segments][0]
+
+    before = sda_routing(core.audit_board(board, pcbnew_api))
+    # Kept referenced while the board is in use, as the editor's undo list keeps them: the
+    # Python wrappers of removed items must outlive their use by the board.
+    removed = [t for t in board.GetTracks() if unescape_kicad(t.GetNetname()) == "/I2C_SDA"]
+    for track in removed:
+        board.Remove(track)
+    after = sda_routing(core.audit_board(board, pcbnew_api))
+    assert removed
+    assert before > 0 and after < before
+    assert path.read_bytes() == on_disk
+    assert sorted(p.name for p in path.parent.iterdir()) == [path.name]
