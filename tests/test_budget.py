@@ -283,3 +283,13 @@ def test_bad_inputs_raise():
         rp_min(0.3, 0.4, 3e-3)
     with pytest.raises(ValueError):
         margin_percent(1.0, 0.0)
+
+
+def test_a_vanishing_capacitance_leaves_the_window_open_ended_without_values_or_pick():
+    # Found by fuzzing: a 2e-319 F line made Rp(max) = t_r / (0.8473 Cb) infinite, and
+    # listing E-series values up to infinity failed. UM10204 Rev. 6 Eq. (1): with Cb -> 0
+    # the rise time sets no upper limit; Eq. (2) still sets the lower one.
+    w = pullup_window(3.3, 2.4e-319, get_mode("fast"))
+    assert w.feasible and math.isinf(w.rp_max)
+    assert w.rp_min == pytest.approx((3.3 - 0.4) / 3e-3)   # Eq. (2), Table 9: 0.4 V at 3 mA
+    assert w.suggestions == () and w.suggestions_e12 == () and w.pick is None

@@ -655,3 +655,11 @@ def test_starter_yaml_comments_out_a_bus_missing_a_line():
 def test_starter_yaml_rejects_unknown_mode():
     with pytest.raises(ValueError):
         starter_yaml({}, [], "warp")
+
+
+def test_starter_yaml_counts_a_line_on_a_net_with_no_name_as_not_found():
+    # Found by fuzzing: a hand-made netlist's unnamed net became `sda: ""`, which the
+    # parser then refused; the starter must always read back.
+    text = starter_yaml({}, [("I2C", [""], ["/SCL"])], "fast")
+    assert "# no data (SDA) line was found" in text
+    assert parse_config(text).buses == ()

@@ -43,6 +43,9 @@ def starter_yaml(rails: dict[str, float | None],
             "# pull-ups and capacitance that live on another board.",
             "buses:"]
     for name, sda, scl in buses:
+        # A net with no name (never in a KiCad export, but a hand-made file can hold one)
+        # cannot be named in the settings: the line counts as not found.
+        sda, scl = [n for n in sda if n], [n for n in scl if n]
         entry = [f"- name: {_yq(name, flow=True)}", f"  sda: {_ynets(sda)}",
                  f"  scl: {_ynets(scl)}",
                  f"  # mode: {mode}",

@@ -239,8 +239,11 @@ def pullup_window(vdd: float, cb_f: float, mode: Mode, iol_a: float | None = Non
     low = rp_min(vdd, vol, iol)
     high = rp_max(mode.rise_time_max_s, cb_f)
     feasible = low <= high
-    e24 = tuple(series_values("E24", low, high)) if feasible else ()
-    e12 = tuple(series_values("E12", low, high)) if feasible else ()
+    # A capacitance too small to matter (or a sink current too small) leaves the window
+    # open-ended: no series values can be listed in it, and none is picked.
+    listable = feasible and math.isfinite(low) and math.isfinite(high)
+    e24 = tuple(series_values("E24", low, high)) if listable else ()
+    e12 = tuple(series_values("E12", low, high)) if listable else ()
     comfortable = [r for r in e12 if rise_time(r, cb_f)
                    <= (1.0 - PICK_RISE_HEADROOM) * mode.rise_time_max_s]
     if comfortable:
