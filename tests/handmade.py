@@ -64,3 +64,12 @@ def build(parts: list[Part], nets: dict[str, list[str]], *, title: str = "handma
             built.append(Node(ref, match.number, match.name, match.type))
         out.append(Net(name, tuple(built)))
     return Design(path=f"{title}.net", format="kicad-netlist", title=title, parts=tuple(parts), nets=tuple(out))
+
+
+def markup_design(sda: str, value: str, *, scl: str = "/SCL", title: str = "hostile") -> Design:
+    """Controller U1 and a target U2 whose value is ``value`` on the nets ``sda`` and ``scl``,
+    one 4.7 kΩ pull-up on SDA to +3V3: the names carry whatever a report must escape."""
+    return build([ic("U1", "MCU", ["SDA", "SCL", "VDD", "GND"], pins_total=48),
+                  ic("U2", value, ["SDA", "SCL", "VDD", "GND"]), res("R1", "4k7")],
+                 {sda: ["U1.SDA", "U2.SDA", "R1.1"], scl: ["U1.SCL", "U2.SCL"],
+                  "+3V3": ["U1.VDD", "U2.VDD", "R1.2"], "GND": ["U1.GND", "U2.GND"]}, title=title)

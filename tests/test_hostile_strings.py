@@ -36,11 +36,9 @@ from pathlib import Path
 
 import pytest
 import yaml
-from click.testing import CliRunner
 from conftest import require_real
-from test_cli import netlist_text
+from helpers import REPORT_FILES, copy_demo, invoke, report_options, write_netlist
 
-from netaudit.cli import cli
 from netaudit.config import parse_config
 from netaudit.model import Design, Net, Node, Part, Pin
 from netaudit.readers import read_design
@@ -63,8 +61,6 @@ HOSTILE = {
 RAW_FORBIDDEN = re.compile("[\x00-\x09\x0b-\x1f\x7f-\x9f\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069"
                            "\u2028\u2029\ufeff]")
 JUNIT_TAGS = {"testsuites", "testsuite", "testcase", "failure", "skipped", "properties", "property"}
-REPORTS = {"json": "report.json", "html": "report.html", "sarif": "report.sarif",
-           "junit": "report.junit.xml", "markdown": "report.md"}
 SARIF_SCHEMA = Path(__file__).resolve().parents[1] / "build" / "sarif-schema" / "sarif-2.1.0-rtm.5.json"
 
 
@@ -112,29 +108,19 @@ def settings(s: str) -> str:
     }, allow_unicode=True)
 
 
-def run(args: list[str]) -> tuple[int, str, str]:
-    result = CliRunner().invoke(cli, [str(a) for a in args], catch_exceptions=False)
-    return result.exit_code, result.stdout, result.stderr
-
-
 @pytest.fixture(scope="module", params=sorted(HOSTILE) + ["plain"])
 def board(request, tmp_path_factory):
     """The board written with one hostile string, checked with every report."""
     kind = request.param
     s = HOSTILE.get(kind, "plain")
     folder = tmp_path_factory.mktemp(f"hostile-{kind}")
-    design = folder / "board.net"
     n = names(s)
-    design.write_text(netlist_text(hostile_design(s), title=n["title"], rev=n["title"]), encoding="utf-8")
-    (folder / "netaudit.yaml").write_text(settings(s), encoding="utf-8")
-    args = ["check", design]
-    for fmt, out in REPORTS.items():
-        args += [f"--{fmt}", folder / out]
-    code, out, err = run(args)
+    design = write_netlist(folder / "board.net", hostile_design(s), settings(s), title=n["title"], rev=n["title"])
+    code, out, err = invoke(["check", design] + report_options(folder))
     assert code in (0, 1), err
-    inventory = run(["buses", design])
+    inventory = invoke(["buses", design])
     return {"kind": kind, "s": s, "names": n, "folder": folder, "text": out, "inventory": inventory[1],
-            **{fmt: (folder / name).read_text(encoding="utf-8") for fmt, name in REPORTS.items()}}
+            **{fmt: (folder / name).read_text(encoding="utf-8") for fmt, name in REPORT_FILES.items()}}
 
 
 def _escaped(c: str) -> str:
@@ -165,12 +151,10 @@ def test_inventory_shows_control_and_direction_characters_as_escapes(board):
 
 @pytest.mark.parametrize("kind", ["ansi", "right-to-left", "controls"])
 def test_error_line_shows_control_characters_as_escapes(tmp_path, kind):
-    design = tmp_path / "board.net"
-    design.write_text(netlist_text(hostile_design("x")), encoding="utf-8")
+    design = write_netlist(tmp_path / "board.net", hostile_design("x"), yaml.safe_dump({"version": 1, "buses": [
+        {"name": "B", "sda": HOSTILE[kind], "scl": "x_SCL"}]}))
     config = tmp_path / "netaudit.yaml"
-    config.write_text(yaml.safe_dump({"version": 1, "buses": [
-        {"name": "B", "sda": HOSTILE[kind], "scl": "x_SCL"}]}), encoding="utf-8")
-    code, out, err = run(["check", design])
+    code, out, err = invoke(["check", design])
     assert code == 2
     assert len(err.splitlines()) == 1 and str(config) in err
     assert not RAW_FORBIDDEN.search(err)
@@ -247,10 +231,8 @@ def parse_page(text: str) -> Page:
 @pytest.fixture(scope="module")
 def plain_page(tmp_path_factory) -> Page:
     folder = tmp_path_factory.mktemp("plain")
-    design = folder / "board.net"
-    design.write_text(netlist_text(hostile_design("plain"), title="plain", rev="plain"), encoding="utf-8")
-    (folder / "netaudit.yaml").write_text(settings("plain"), encoding="utf-8")
-    run(["check", design, "--html", folder / "report.html"])
+    design = write_netlist(folder / "board.net", hostile_design("plain"), settings("plain"), title="plain", rev="plain")
+    invoke(["check", design, "--html", folder / "report.html"])
     return parse_page((folder / "report.html").read_text(encoding="utf-8"))
 
 
@@ -308,9 +290,8 @@ def test_markdown_escapes_every_backtick_from_the_design(board):
 
 def test_init_writes_settings_that_read_back_with_the_same_net_names(board, tmp_path):
     n = board["names"]
-    design = tmp_path / "board.net"
-    design.write_text(netlist_text(hostile_design(board["s"])), encoding="utf-8")
-    code, out, err = run(["init", design])
+    design = write_netlist(tmp_path / "board.net", hostile_design(board["s"]))
+    code, out, err = invoke(["init", design])
     assert code == 0, err
     written = (tmp_path / "netaudit.yaml").read_text(encoding="utf-8")
     config = parse_config(written, str(tmp_path / "netaudit.yaml"))
@@ -335,7 +316,7 @@ LINE_ENDS = {
 
 def _report_without_hashes(folder: Path, design: Path) -> dict:
     out = folder / "report.json"
-    code, _stdout, err = run(["check", design, "--json", out, "--quiet"])
+    code, _stdout, err = invoke(["check", design, "--json", out, "--quiet"])
     assert code == 1, err  # the demo's deliberate faults
     doc = json.loads(out.read_text(encoding="utf-8"))
     doc["design"]["sha256"] = doc["config"]["sha256"] = None
@@ -345,16 +326,14 @@ def _report_without_hashes(folder: Path, design: Path) -> dict:
 @pytest.fixture(scope="module")
 def demo_report(tmp_path_factory) -> dict:
     folder = tmp_path_factory.mktemp("demo-plain")
-    for name in ("greenhouse.net", "netaudit.yaml"):
-        (folder / name).write_bytes((DEMO / name).read_bytes())
-    return _report_without_hashes(folder, folder / "greenhouse.net")
+    design = copy_demo(folder, (DEMO / "netaudit.yaml").read_bytes())
+    return _report_without_hashes(folder, design)
 
 
 @pytest.mark.parametrize("form", list(LINE_ENDS))
 def test_demo_settings_in_any_utf8_form_give_the_same_audit(tmp_path, demo_report, form):
-    (tmp_path / "greenhouse.net").write_bytes((DEMO / "greenhouse.net").read_bytes())
-    (tmp_path / "netaudit.yaml").write_bytes(LINE_ENDS[form]((DEMO / "netaudit.yaml").read_bytes()))
-    assert _report_without_hashes(tmp_path, tmp_path / "greenhouse.net") == demo_report
+    design = copy_demo(tmp_path, LINE_ENDS[form]((DEMO / "netaudit.yaml").read_bytes()))
+    assert _report_without_hashes(tmp_path, design) == demo_report
 
 
 @pytest.mark.parametrize("form", list(LINE_ENDS))

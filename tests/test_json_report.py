@@ -14,21 +14,16 @@ import random
 import jsonschema
 import pytest
 from handmade import build, ic, res
-from test_cli import netaudit, netlist_text
+from helpers import write_netlist
+from test_cli import BUS_AND_BUDGET_RULES, netaudit
 
 from netaudit.audit import audit
 from netaudit.config import parse_config
 from netaudit.model import Design
 from netaudit.report.json import render
 
-# The rules of issues 3 and 4 (wiring, pull-ups, budget); later rule families (rail
-# voltages, addresses) may add their own findings to the same boards.
-BUS_AND_BUDGET_RULES = frozenset({
-    "bus-line-unpaired", "bus-lines-swapped", "bus-pin-unconnected", "bus-lone-device",
-    "pullup-missing", "pullup-duplicated", "pullup-parallel", "pullup-rail-mismatch",
-    "pullup-to-signal", "pullup-too-strong", "pullup-too-weak", "capacitance-over-limit",
-    "low-level-margin",
-})
+# BUS_AND_BUDGET_RULES (test_cli): the rules of issues 3 and 4 (wiring, pull-ups, budget);
+# later rule families (rail voltages, addresses) may add their own findings to the same boards.
 
 NUM = {"type": "number"}
 NUM_OR_NULL = {"type": ["number", "null"]}
@@ -113,9 +108,7 @@ waivers:
 
 @pytest.fixture
 def board(tmp_path):
-    path = tmp_path / "board.net"
-    path.write_text(netlist_text(mux_board(), title="Mux board", rev="B"), encoding="utf-8")
-    return path
+    return write_netlist(tmp_path / "board.net", mux_board(), title="Mux board", rev="B")
 
 
 @pytest.fixture
@@ -222,8 +215,7 @@ def test_order_of_parts_and_nets_in_the_file_does_not_change_the_report(tmp_path
                       nets=tuple(random.Random(8).sample(d.nets, len(d.nets))))
     docs = []
     for name, design in (("a.net", d), ("b.net", shuffled)):
-        path = tmp_path / name
-        path.write_text(netlist_text(design, title="Mux board", rev="B"), encoding="utf-8")
+        path = write_netlist(tmp_path / name, design, title="Mux board", rev="B")
         rep = json.loads(render(audit(path, parse_config(WAIVER))))
         del rep["design"]["sha256"], rep["design"]["path"]
         docs.append(rep)
@@ -278,8 +270,7 @@ def message_boards() -> list[tuple[Design, str | None]]:
 def all_findings(tmp_path_factory):
     out = []
     for i, (design, cfg) in enumerate(message_boards()):
-        path = tmp_path_factory.mktemp("msg") / f"board{i}.net"
-        path.write_text(netlist_text(design), encoding="utf-8")
+        path = write_netlist(tmp_path_factory.mktemp("msg") / f"board{i}.net", design)
         out += json.loads(render(audit(path, parse_config(cfg or "version: 1\n"))))["findings"]
     return out
 

@@ -17,7 +17,8 @@ from html.parser import HTMLParser
 from pathlib import Path
 
 import pytest
-from handmade import build, ic, res
+from conftest import cli_env
+from handmade import build, ic, markup_design, res
 from markupsafe import escape
 
 from netaudit.addressing import address_domains
@@ -108,11 +109,7 @@ def _demo():
 
 def _hostile_design():
     """A design whose net names carry markup and script (hand-made, invented)."""
-    return build([ic("U1", "MCU", ["SDA", "SCL", "VDD", "GND"], pins_total=48),
-                  ic("U2", "<b>SENSOR</b>", ["SDA", "SCL", "VDD", "GND"]),
-                  res("R1", "4k7")],
-                 {HOSTILE_SDA: ["U1.SDA", "U2.SDA", "R1.1"], HOSTILE_SCL: ["U1.SCL", "U2.SCL"],
-                  "+3V3": ["U1.VDD", "U2.VDD", "R1.2"], "GND": ["U1.GND", "U2.GND"]}, title="hostile")
+    return markup_design(HOSTILE_SDA, "<b>SENSOR</b>", scl=HOSTILE_SCL)
 
 
 def _two_bus_design():
@@ -425,8 +422,7 @@ def test_a_source_date_epoch_that_is_no_number_is_refused():
 
 
 def _cli(args, tmp_path, epoch: str | None):
-    env = dict(os.environ)
-    env["PYTHONPATH"] = os.pathsep.join([str(REPO)] + ([env["PYTHONPATH"]] if env.get("PYTHONPATH") else []))
+    env = cli_env()
     env.pop("SOURCE_DATE_EPOCH", None)
     if epoch is not None:
         env["SOURCE_DATE_EPOCH"] = epoch

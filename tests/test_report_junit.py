@@ -12,7 +12,7 @@ import xml.etree.ElementTree as ET
 from datetime import datetime, timezone
 from pathlib import Path
 
-from handmade import build, ic, res
+from handmade import build, ic, markup_design, res
 
 from netaudit.audit import audit, audit_design
 from netaudit.checks import all_rules
@@ -104,11 +104,7 @@ def test_findings_outside_any_segment_go_to_the_design_suite():
 
 
 def test_markup_and_control_characters_from_the_design_still_parse():
-    net = "/SDA<script>x</script>&\x01\"'"
-    d = build([ic("U1", "MCU", ["SDA", "SCL", "VDD", "GND"], pins_total=48),
-               ic("U2", "<b>&amp;", ["SDA", "SCL", "VDD", "GND"]), res("R1", "4k7")],
-              {net: ["U1.SDA", "U2.SDA", "R1.1"], "/SCL": ["U1.SCL", "U2.SCL"],
-               "+3V3": ["U1.VDD", "U2.VDD", "R1.2"], "GND": ["U1.GND", "U2.GND"]}, title="hostile")
+    d = markup_design("/SDA<script>x</script>&\x01\"'", "<b>&amp;")
     result = audit_design(d, Config.empty())
     text = junit.render(result, WHEN)
     assert "<script>" not in text

@@ -16,7 +16,7 @@ from pathlib import Path
 
 import jsonschema
 import pytest
-from handmade import build, ic, res
+from handmade import markup_design
 
 from netaudit.audit import audit, audit_design
 from netaudit.checks import all_rules
@@ -57,11 +57,7 @@ def _demo_doc():
 
 
 def _hostile():
-    d = build([ic("U1", "MCU", ["SDA", "SCL", "VDD", "GND"], pins_total=48),
-               ic("U2", "SENSOR<img src=x onerror=alert(2)>", ["SDA", "SCL", "VDD", "GND"]), res("R1", "4k7")],
-              {HOSTILE: ["U1.SDA", "U2.SDA", "R1.1"], "/SCL": ["U1.SCL", "U2.SCL"],
-               "+3V3": ["U1.VDD", "U2.VDD", "R1.2"], "GND": ["U1.GND", "U2.GND"]}, title="hostile")
-    return audit_design(d, Config.empty())
+    return audit_design(markup_design(HOSTILE, "SENSOR<img src=x onerror=alert(2)>"), Config.empty())
 
 
 def test_demo_sarif_validates_against_the_published_schema(validator):
