@@ -131,6 +131,18 @@ def _child_env() -> dict[str, str]:
     return {**os.environ, "PYTHONPATH": str(ROOT), "PYTHONPYCACHEPREFIX": str(OUT / "pycache")}
 
 
+def reference_seconds() -> float:
+    """Seconds a fixed pure-Python workload takes in a fresh process: this machine's speed
+    at the moment (a shared 2-core machine varies by half again between quiet periods),
+    printed beside the table so that runs can be compared."""
+    script = ("import time\nt = time.perf_counter()\n"
+              "d = {}\nfor i in range(600000):\n    d[str(i)] = (i, str(i * 7))\n"
+              "sorted(d.items(), key=lambda kv: kv[1][1])\nprint(time.perf_counter() - t)\n")
+    runs = [float(subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                                 check=True).stdout) for _ in range(3)]
+    return statistics.median(runs)
+
+
 def compile_modules() -> None:
     """Byte-compile netaudit and its dependencies as an installed package would be."""
     subprocess.run([sys.executable, "-m", "compileall", "-q", str(ROOT / "netaudit")],
@@ -149,6 +161,7 @@ def main() -> None:
     sizes = [int(s) for s in args.sizes.split(",")]
     buses = [int(s) for s in args.buses.split(",")]
     compile_modules()
+    before = reference_seconds()
     rows = []
     for size, nb in zip(sizes, buses):
         path = generate(size, nb)
@@ -157,6 +170,8 @@ def main() -> None:
         inside = statistics.median(r[1] for r in runs)
         mb = max(r[2] for r in runs)
         rows.append((size, nb, path.stat().st_size / 1e6, wall, inside, mb))
+    after = reference_seconds()
+    print(f"machine speed: reference workload {before:.3f} s before, {after:.3f} s after")
     print(f"{'parts':>7} {'buses':>6} {'file MB':>8} {'wall s':>8} {'main() s':>9} {'peak MB':>8} {'us/part':>8}")
     for size, nb, fmb, s, inside, mb in rows:
         print(f"{size:>7} {nb:>6} {fmb:>8.1f} {s:>8.2f} {inside:>9.2f} {mb:>8.0f} {s / size * 1e6:>8.1f}")
