@@ -108,3 +108,13 @@ def test_resistor_value_at_the_float_limit_gives_every_report(tmp_path):
     code, out, err = invoke(["check", design] + report_options(tmp_path))
     assert code in (0, 1), err
     assert "TΩ" in out  # the pull-ups, shown with the largest prefix
+
+
+def test_an_integer_too_long_for_a_float_is_refused_at_its_place(tmp_path):
+    # Was: OverflowError converting a 400-digit YAML integer to float (fuzzing, seed 20261203).
+    design = copy_demo(tmp_path, "version: 1\ndefaults:\n  pin_capacitance_pf: " + "9" * 400 + "\n")
+    config = tmp_path / "netaudit.yaml"
+    code, _out, err = invoke(["check", design])
+    assert code == 2 and "expected a finite number" in err
+    assert _one_clean_line(err, config) == (3, 23)
+    assert len(err) < 300   # the value is shortened in the message

@@ -114,7 +114,8 @@ def _describe(node: yaml.Node) -> str:
         return "a mapping"
     if _is_null(node):
         return "nothing"
-    return f"'{node.value}'"
+    text = str(node.value)
+    return f"'{text[:40]}…' ({len(text)} characters)" if len(text) > 48 else f"'{text}'"
 
 
 def _hex(value: int) -> str:
@@ -190,7 +191,10 @@ class NodeReader:
     def number(self, node, kp, *, positive=False, at_most: float | None = None) -> float:
         raw = self.scalar(node, kp, "a number")
         if node.tag == _INT:
-            value = float(_CONSTRUCT.construct_yaml_int(node))
+            try:
+                value = float(_CONSTRUCT.construct_yaml_int(node))
+            except OverflowError:  # more than ~308 digits: no float holds it
+                value = math.inf
         elif node.tag == _FLOAT:
             value = _CONSTRUCT.construct_yaml_float(node)
         elif node.tag == _STR and _NUMBER.fullmatch(raw.strip()):
