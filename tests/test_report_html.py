@@ -486,3 +486,11 @@ def test_a_bad_source_date_epoch_stops_the_check_with_one_line(tmp_path):
     assert proc.returncode == 2
     assert proc.stderr.count("\n") == 1 and "SOURCE_DATE_EPOCH" in proc.stderr
     assert not (tmp_path / "r.html").exists()
+
+
+@pytest.mark.parametrize("text", ['<b>&"\'', "&amp;", "plain", "", "ΩµΩ<\u202e>", None, 4.7])
+def test_svg_escaping_equals_the_standard_librarys_html_escape(text):
+    import html
+
+    from netaudit.report.svg import esc
+    assert esc(text) == html.escape("" if text is None else str(text), quote=True)

@@ -8,7 +8,6 @@ are written with fixed precision so the same audit always gives the same bytes.
 from __future__ import annotations
 
 import hashlib
-import html
 import math
 from typing import Iterable, Sequence
 
@@ -22,8 +21,11 @@ _FONT = "font-family='DejaVu Sans, Arial, sans-serif'"
 
 
 def esc(text) -> str:
-    """Text safe inside SVG/HTML element content and quoted attributes."""
-    return html.escape("" if text is None else str(text), quote=True)
+    """Text safe inside SVG/HTML element content and quoted attributes: the five characters
+    ``html.escape(quote=True)`` replaces, replaced alike (importing ``html`` loads its
+    table of entities, a tenth of a small audit's time)."""
+    return ("" if text is None else str(text)).replace("&", "&amp;").replace("<", "&lt;") \
+        .replace(">", "&gt;").replace('"', "&quot;").replace("'", "&#x27;")
 
 
 def _n(x: float) -> str:
