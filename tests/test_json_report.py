@@ -10,9 +10,12 @@ from __future__ import annotations
 import hashlib
 import json
 import random
+from pathlib import Path
 
 import jsonschema
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from handmade import build, ic, res
 from helpers import write_netlist
 from test_cli import BUS_AND_BUDGET_RULES, netaudit
@@ -20,6 +23,7 @@ from test_cli import BUS_AND_BUDGET_RULES, netaudit
 from netaudit.audit import audit
 from netaudit.config import parse_config
 from netaudit.model import Design
+from netaudit.report.json import dumps as report_dumps
 from netaudit.report.json import render
 
 # BUS_AND_BUDGET_RULES (test_cli): the rules of issues 3 and 4 (wiring, pull-ups, budget);
@@ -283,3 +287,36 @@ def test_every_message_is_the_rules_own_sentence(all_findings):
     # The generic fallback starts with the rule id in words; each rule has its own phrase.
     for f in (f for f in all_findings if f["rule"] in BUS_AND_BUDGET_RULES):
         assert not f["message"].startswith(f["rule"].replace("-", " ")), f
+
+
+# -- the writer: the same text as the standard library's json.dumps -----------------------
+_SCALARS = st.one_of(st.none(), st.booleans(), st.integers(), st.text(),
+                     st.floats(allow_nan=False, allow_infinity=False))
+_DOCS = st.recursive(_SCALARS, lambda inner: st.one_of(st.lists(inner, max_size=5),
+                                                       st.dictionaries(st.text(), inner, max_size=5)),
+                     max_leaves=40)
+
+
+def _stdlib(doc) -> str:
+    return json.dumps(doc, indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+
+
+@settings(max_examples=400, deadline=None)
+@given(st.dictionaries(st.text(), _DOCS, max_size=6))
+def test_the_report_writer_gives_the_standard_librarys_text_for_any_document(doc):
+    assert report_dumps(doc) == _stdlib(doc)
+
+
+def test_the_report_writer_gives_the_standard_librarys_text_for_the_demo_report():
+    from netaudit.audit import audit
+    from netaudit.report.json import report
+
+    doc = report(audit(Path(__file__).resolve().parents[1] / "fixtures" / "demo" / "greenhouse.net"))
+    assert report_dumps(doc) == _stdlib(doc)
+
+
+def test_the_report_writer_refuses_what_is_not_report_data():
+    with pytest.raises(TypeError):
+        report_dumps({"x": float("nan")})
+    with pytest.raises(TypeError):
+        report_dumps({"x": object()})
