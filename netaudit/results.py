@@ -59,6 +59,8 @@ class SeriesLink:
 
 @dataclass(frozen=True)
 class DevicePin:
+    """A bus pin of a device: which pin, its function and the line it sits on."""
+
     ref: str
     pin: str
     function: str
@@ -119,6 +121,8 @@ class Line:
 
 @dataclass(frozen=True)
 class Upstream:
+    """What a segment sits behind: the multiplexer, translator or repeater, and its channel."""
+
     ref: str
     kind: str               # "mux" | "translator" | "repeater"
     channel: str | None = None
@@ -126,6 +130,8 @@ class Upstream:
 
 @dataclass(frozen=True)
 class Segment:
+    """One stretch of a bus between splitters: its two lines and the devices on them."""
+
     id: str
     sda: Line | None
     scl: Line | None
@@ -139,6 +145,8 @@ class Segment:
 
 @dataclass(frozen=True)
 class Bus:
+    """A bus: its segments (the first is the controller's), its mode and how it was found."""
+
     name: str
     mode: str
     segments: tuple[Segment, ...]
@@ -168,6 +176,8 @@ class Finding:
 
 @dataclass(frozen=True)
 class Audit:
+    """Everything one audit found: the design, rails, buses, findings and address domains."""
+
     design: Design
     rails: tuple[Rail, ...]
     buses: tuple[Bus, ...]

@@ -16,6 +16,8 @@ from ..model import Design
 
 @dataclass(frozen=True)
 class PartInfo:
+    """What netaudit knows about one part, merged from the config and the catalog."""
+
     role: str | None = None
     address: Any = None               # config.FixedAddress | PinBitsAddress | PinTieAddress
     io_supply_pin: str | None = None

@@ -91,6 +91,8 @@ class PinTiesAddress:
 
 @dataclass(frozen=True)
 class CatalogEntry:
+    """One catalog entry: its name, the globs that match parts, and what it knows."""
+
     name: str
     values: tuple[str, ...]      # upper-case globs for the value and part-number fields
     lib_parts: tuple[str, ...]   # upper-case globs for the symbol name

@@ -20,6 +20,8 @@ RuleFunc = Callable[["CheckContext"], Iterable[Finding]]
 
 @dataclass(frozen=True)
 class Rule:
+    """A registered rule: its id, default severity and the function that checks it."""
+
     id: str
     severity: Severity
     family: str
@@ -50,6 +52,8 @@ def rule(rule_id: str, severity: Severity) -> Callable[[RuleFunc], RuleFunc]:
 
 @dataclass(frozen=True)
 class CheckContext:
+    """What every rule reads: the design, buses, rails, config and derived lookups."""
+
     design: Design
     buses: tuple[Bus, ...]
     rails: dict[str, Rail]

@@ -79,6 +79,8 @@ Address = Union[FixedAddress, PinBitsAddress, PinTieAddress]
 
 @dataclass(frozen=True)
 class Defaults:
+    """The ``defaults:`` section: mode, pin capacitance and trace capacitance per length."""
+
     mode: str = DEFAULT_MODE
     pin_capacitance_f: float = DEFAULT_PIN_CAPACITANCE_F
     trace_f_per_m: float = DEFAULT_TRACE_F_PER_M
@@ -94,6 +96,8 @@ class OffboardPullup:
 
 @dataclass(frozen=True)
 class BusConfig:
+    """One entry of ``buses:``: a bus named by its SDA and SCL nets, with its own settings."""
+
     name: str
     sda: tuple[str, ...]
     scl: tuple[str, ...]
@@ -138,6 +142,8 @@ class PartMatch:
 
 @dataclass(frozen=True)
 class PartRule:
+    """One entry of ``parts:``: what netaudit is told about the parts it matches."""
+
     match: PartMatch
     role: str | None = None
     address: Address | None = None
@@ -151,6 +157,8 @@ class PartRule:
 
 @dataclass(frozen=True)
 class Waiver:
+    """One entry of ``waivers:``: a rule accepted for some parts or nets, and why."""
+
     rule: str
     reason: str
     refs: tuple[str, ...] = ()

@@ -31,6 +31,8 @@ CONTROLLER_MIN_PINS = 32  # a processor, FPGA or module, not a peripheral (commo
 
 @dataclass
 class _Evidence:
+    """What speaks for one line being a data or clock line, and how strongly."""
+
     sda: float = 0.0
     scl: float = 0.0
     strong: bool = False          # a dedicated bus pin or a bus-like net name
@@ -51,6 +53,8 @@ class _Evidence:
 
 @dataclass(frozen=True)
 class UnpairedLine:
+    """A line that looks like SDA or SCL but found no partner line."""
+
     signal: str
     nets: tuple[str, ...]
     refs: tuple[str, ...]
@@ -58,6 +62,8 @@ class UnpairedLine:
 
 @dataclass(frozen=True)
 class UnconnectedPin:
+    """A device's SDA or SCL pin left on no net (or alone on its net)."""
+
     ref: str
     pin: str
     function: str
@@ -78,6 +84,8 @@ class Topology:
 
 @dataclass(frozen=True)
 class _Splitter:
+    """A part that splits a bus into segments: mux channel, translator or repeater."""
+
     ref: str
     kind: str                   # mux | translator | repeater
     channel: str | None
