@@ -13,7 +13,7 @@ from typing import Mapping
 
 from ..model import Design, Net
 from ..results import Rail
-from .names import net_base, net_signal, strip_markup
+from .names import net_base, net_signal, pin_signal, strip_markup
 
 _GROUND = re.compile(r"^(?:[ADPS]?GND[A-Z0-9_]*|GND_?\w*|V?SS[AQ]?|VSS\w*|0V|EARTH|CHASSIS\w*|AGND\w*|DGND\w*|PGND\w*)$")
 _VOLTS_RKM = re.compile(r"(?<![0-9.])(\d{1,2})V(\d{1,3})?(?![0-9])")
@@ -24,6 +24,8 @@ POWER_TYPES = frozenset({"power_in", "power_out"})
 
 def volts_from_name(name: str) -> float | None:
     """The voltage a supply name states, or None. ``3V3`` -> 3.3, ``+5V`` -> 5.0, ``1V2`` -> 1.2."""
+    if "V" not in name.upper():
+        return None  # every form below has a V (removing markup adds no letter)
     base = strip_markup(net_base(name)).upper().replace(" ", "")
     if _VBUS.match(base):
         return 5.0  # USB VBUS nominal 5 V (USB 2.0 specification)
@@ -46,7 +48,6 @@ def _has_power_pins(net: Net) -> bool:
 
 
 def _signal_pins(net: Net) -> bool:
-    from .names import pin_signal
     return any(pin_signal(node.pin_function) for node in net.nodes)
 
 
