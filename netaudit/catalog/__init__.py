@@ -71,7 +71,7 @@ def describe_parts(design: Design, config: Config) -> dict[str, PartInfo]:
         rules = config.part_rules_for(part.ref, part.value, part.lib, part.lib_part)
         if info is None and not rules:
             continue
-        info = info or PartInfo()
+        info = info or _NOTHING
         for r in rules:
             info = _merge(info, PartInfo(r.role, r.address, r.io_supply_pin, r.max_mode,
                                          r.tolerant_volts, r.pin_capacitance_f, None, "config",

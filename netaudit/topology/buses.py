@@ -310,7 +310,6 @@ def find_buses(design: Design, rails: Mapping[str, Rail], *,
     used_names: set[str] = set()
     seg_groups = connected_groups(accepted, ((a, b) for a, b, _sp in edges if a != b))
     for comp in sorted(seg_groups, key=lambda c: sorted(c)[0]):
-        comp = set(comp)
         downstream = {b for a, b, sp in edges if sp.kind == "mux" and sp.upstream == a and b in comp}
         root = _pick_root(design, conn, comp - downstream or comp, accepted)
         parent: dict[str, tuple[str, _Splitter]] = {}
