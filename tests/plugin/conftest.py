@@ -1,10 +1,11 @@
 """Fixtures for the KiCad plugin tests: KiCad's ``pcbnew`` module, boards loaded through it,
 the plugin package built once per session, and a KiCad-like install of it.
 
-``pcbnew`` is imported into the test's own Python from a folder holding just ``pcbnew.py``
-and ``_pcbnew.so`` (linked from where KiCad installed them), so none of the system Python's
-other packages leak in. Tests skip with the reason when KiCad's module is not there or
-does not load into this Python.
+``pcbnew`` is imported, in a forked child of the test's own Python (one per test, see
+``pytest_runtest_protocol``), from a folder holding just ``pcbnew.py`` and ``_pcbnew.so``
+(linked from where KiCad installed them), so none of the system Python's other packages
+leak in. Tests skip with the reason when KiCad's module is not there or does not load into
+this Python.
 """
 
 from __future__ import annotations
@@ -35,6 +36,72 @@ def _kicad_module_files() -> tuple[Path, list[Path]] | None:
     return None
 
 
+@pytest.hookimpl(tryfirst=True)
+def pytest_runtest_protocol(item, nextitem):
+    """Every test that loads KiCad's ``pcbnew`` module runs in a child process of its own, so
+    the module never enters the Python that runs the rest of the suite.
+
+    Loaded into this suite's Python (not the build KiCad's module was made for), it damaged
+    the interpreter's memory: the process crashed as it shut down, after every test had
+    passed (once in CI, once in twelve runs of the plugin tests here; the core dump shows a
+    tuple of constants freed twice in the final garbage collection). A child leaves without
+    the interpreter's shutdown, and a crash inside one fails that test where it is seen."""
+    if "pcbnew_api" not in getattr(item, "fixturenames", ()):
+        return None
+    item.ihook.pytest_runtest_logstart(nodeid=item.nodeid, location=item.location)
+    reports = _reports_from_child(item, nextitem)
+    try:
+        # The child tore down what the next test does not need in its own copy of pytest's
+        # setup stack; this process tears down its own (pytest's, as the next test expects).
+        item.session._setupstate.teardown_exact(nextitem)
+    except Exception as exc:   # a fixture's own teardown failing, reported as pytest would
+        from _pytest.reports import TestReport
+        reports.append(TestReport(item.nodeid, item.location, {}, "failed",
+                                  f"teardown after the child process: {exc!r}", "teardown"))
+    for report in reports:
+        item.ihook.pytest_runtest_logreport(report=report)
+    item.ihook.pytest_runtest_logfinish(nodeid=item.nodeid, location=item.location)
+    return True
+
+
+def _reports_from_child(item, nextitem) -> list:
+    """Run one test's setup, call and teardown in a forked child; its reports come back
+    through a file in pytest's own serialisable form (pickled: skip reports hold tuples)."""
+    import os
+    import pickle
+    import tempfile
+    import traceback
+    from _pytest.reports import TestReport
+    from _pytest.runner import runtestprotocol
+
+    hook = item.config.hook
+    with tempfile.TemporaryDirectory(prefix="netaudit-child-") as folder:
+        out = Path(folder) / "reports.pickle"
+        pid = os.fork()
+        if pid == 0:   # the child: run, write the reports, leave without shutting Python down
+            code = 0
+            try:
+                reports = runtestprotocol(item, log=False, nextitem=nextitem)
+                data = [hook.pytest_report_to_serializable(config=item.config, report=r)
+                        for r in reports]
+                out.write_bytes(pickle.dumps(data))
+            except BaseException:
+                traceback.print_exc()
+                code = 3
+            finally:
+                sys.stdout.flush()
+                sys.stderr.flush()
+                os._exit(code)
+        _, status = os.waitpid(pid, 0)
+        if os.WIFEXITED(status) and os.WEXITSTATUS(status) == 0 and out.is_file():
+            return [hook.pytest_report_from_serializable(config=item.config, data=d)
+                    for d in pickle.loads(out.read_bytes())]
+    how = (f"was killed by signal {os.WTERMSIG(status)}" if os.WIFSIGNALED(status)
+           else f"exited with status {os.waitstatus_to_exitcode(status)}")
+    return [TestReport(item.nodeid, item.location, {}, "failed",
+                       f"the child process running this test {how} before reporting", "call")]
+
+
 @pytest.fixture(scope="session")
 def pcbnew_api(tmp_path_factory):
     """KiCad's pcbnew module, imported into this Python; skip when unavailable."""
@@ -60,7 +127,7 @@ def pcbnew_api(tmp_path_factory):
 
 @pytest.fixture(scope="session")
 def load_board(pcbnew_api):
-    """Load a board through pcbnew once per session (the plugin never changes it)."""
+    """Load a board through pcbnew once per test (each such test runs in its own child)."""
     def load(path: Path):
         key = str(path)
         if key not in _BOARDS:
