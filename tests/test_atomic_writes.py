@@ -18,10 +18,9 @@ import shutil
 from pathlib import Path
 
 import pytest
-from click.testing import CliRunner
 
 from conftest import REPO_ROOT
-from netaudit.cli import cli
+from helpers import invoke as run
 from netaudit.report import io as report_io
 
 DEMO = REPO_ROOT / "fixtures" / "demo"
@@ -36,11 +35,6 @@ def board(tmp_path) -> Path:
     path = tmp_path / "greenhouse.net"
     shutil.copyfile(DEMO / "greenhouse.net", path)
     return path
-
-
-def run(args) -> tuple[int, str, str]:
-    result = CliRunner().invoke(cli, [str(a) for a in args], catch_exceptions=False)
-    return result.exit_code, result.stdout, result.stderr
 
 
 def entries(folder: Path) -> list[str]:

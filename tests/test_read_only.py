@@ -19,10 +19,9 @@ import sys
 from pathlib import Path
 
 import pytest
-from click.testing import CliRunner
 
 from conftest import REPO_ROOT, cli_env, require_real
-from netaudit.cli import cli
+from helpers import invoke
 
 DEMO = REPO_ROOT / "fixtures" / "demo"
 BADGE = "event-badge-i2c-mux"
@@ -79,9 +78,7 @@ def located(name: str) -> tuple[Path, Path]:
 
 
 def run(args: list, tmp_path: Path, target: Path) -> tuple[int, str, str]:
-    argv = [str(a).replace("{in}", str(target)).replace("{out}", str(tmp_path)) for a in args]
-    result = CliRunner().invoke(cli, argv, catch_exceptions=False)
-    return result.exit_code, result.stdout, result.stderr
+    return invoke([str(a).replace("{in}", str(target)).replace("{out}", str(tmp_path)) for a in args])
 
 
 @pytest.mark.parametrize("command", list(COMMANDS))
@@ -114,8 +111,8 @@ def test_project_read_through_kicad_cli_stays_as_it_was(tmp_path, kicad_cli):
 def test_commands_without_a_design_write_nothing_where_they_run(monkeypatch, args):
     monkeypatch.chdir(DEMO)
     before = fingerprint(DEMO)
-    result = CliRunner().invoke(cli, args, catch_exceptions=False)
-    assert result.exit_code == 0, result.stderr
+    code, _out, err = invoke(args)
+    assert code == 0, err
     assert differences(before, fingerprint(DEMO)) == []
 
 
