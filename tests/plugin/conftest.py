@@ -11,13 +11,18 @@ this Python.
 from __future__ import annotations
 
 import importlib
+import os
+import pickle
 import shutil
 import subprocess
 import sys
+import tempfile
+import traceback
 import zipfile
 from pathlib import Path
 
 import pytest
+from _pytest.runner import runtestprotocol
 
 REPO_ROOT = Path(__file__).resolve().parents[2]
 PLUGIN_DIR = REPO_ROOT / "plugin"
@@ -46,8 +51,8 @@ def pytest_runtest_protocol(item, nextitem):
     passed (once in CI, once in twelve runs of the plugin tests here; the core dump shows a
     tuple of constants freed twice in the final garbage collection). A child leaves without
     the interpreter's shutdown, and a crash inside one fails that test where it is seen."""
-    if "pcbnew_api" not in getattr(item, "fixturenames", ()):
-        return None
+    if "pcbnew_api" not in getattr(item, "fixturenames", ()) or not hasattr(os, "fork"):
+        return None   # (no fork on Windows: such tests run here, as they did before)
     item.ihook.pytest_runtest_logstart(nodeid=item.nodeid, location=item.location)
     reports = _reports_from_child(item, nextitem)
     try:
@@ -55,8 +60,7 @@ def pytest_runtest_protocol(item, nextitem):
         # setup stack; this process tears down its own (pytest's, as the next test expects).
         item.session._setupstate.teardown_exact(nextitem)
     except Exception as exc:   # a fixture's own teardown failing, reported as pytest would
-        from _pytest.reports import TestReport
-        reports.append(TestReport(item.nodeid, item.location, {}, "failed",
+        reports.append(pytest.TestReport(item.nodeid, item.location, {}, "failed",
                                   f"teardown after the child process: {exc!r}", "teardown"))
     for report in reports:
         item.ihook.pytest_runtest_logreport(report=report)
@@ -67,13 +71,6 @@ def pytest_runtest_protocol(item, nextitem):
 def _reports_from_child(item, nextitem) -> list:
     """Run one test's setup, call and teardown in a forked child; its reports come back
     through a file in pytest's own serialisable form (pickled: skip reports hold tuples)."""
-    import os
-    import pickle
-    import tempfile
-    import traceback
-    from _pytest.reports import TestReport
-    from _pytest.runner import runtestprotocol
-
     hook = item.config.hook
     with tempfile.TemporaryDirectory(prefix="netaudit-child-") as folder:
         out = Path(folder) / "reports.pickle"
@@ -98,7 +95,7 @@ def _reports_from_child(item, nextitem) -> list:
                     for d in pickle.loads(out.read_bytes())]
     how = (f"was killed by signal {os.WTERMSIG(status)}" if os.WIFSIGNALED(status)
            else f"exited with status {os.waitstatus_to_exitcode(status)}")
-    return [TestReport(item.nodeid, item.location, {}, "failed",
+    return [pytest.TestReport(item.nodeid, item.location, {}, "failed",
                        f"the child process running this test {how} before reporting", "call")]
 
 
