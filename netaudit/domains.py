@@ -35,7 +35,7 @@ from typing import Mapping
 
 from .model import Design, Part
 from .results import Bus, Device, LineBudget, Rail, Segment
-from .topology.buses import supply_rail_of
+from .topology.segments import supply_rail_of
 from .topology.lines import Connectivity
 from .topology.names import is_io_supply_pin, pin_signal, strip_markup
 from .topology.parts import is_connector, is_fet, looks_passive
