@@ -28,13 +28,18 @@ SYSTEM_PYTHON = "/usr/bin/python3"
 @pytest.fixture(scope="module")
 def display():
     """A private Xvfb server. ``-displayfd`` makes the server pick a free display number
-    itself, so test runs in parallel (xvfb-run -a races on the lock files) cannot collide."""
+    itself, so test runs in parallel (xvfb-run -a races on the lock files) cannot collide.
+    ``-noreset``: the dialog's process opens a first connection and closes it before opening
+    the one it keeps (seen with strace); with no other client left the server resets, and a
+    connection arriving during the reset fails ("wxEntryStart failed": 4 of about 110 runs
+    here). Back-to-back clients on a loaded machine: 9 of 400 failed without the option,
+    0 of 600 with it."""
     xvfb = shutil.which("Xvfb")
     if xvfb is None:
         pytest.skip("Xvfb not installed (Debian package xvfb)")
     read_end, write_end = os.pipe()
     server = subprocess.Popen([xvfb, "-displayfd", str(write_end), "-screen", "0", "1280x800x24",
-                               "-nolisten", "tcp"], pass_fds=(write_end,),
+                               "-nolisten", "tcp", "-noreset"], pass_fds=(write_end,),
                               stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     os.close(write_end)
     try:
