@@ -42,6 +42,8 @@ def build_buses(design: Design, rails: Mapping[str, Rail], conn: Connectivity, p
     """One Bus per group of segments joined by splitting parts. A segment's key is its data
     line; ``buses:`` entries name their bus, mode, extra capacitance and off-board pull-up."""
     splitters, edges = _splitting_parts(design, rails, conn, pairing, roles)
+    split_kind = {sp.ref: sp.kind for _a, _b, sp in edges}   # splitting part -> its kind
+    bus_lines = set(pairing.candidates)
     bus_config_of = {a: bc for a, _b, bc in pairing.forced if a in pairing.accepted}
     buses = []
     used_names: set[str] = set()
@@ -67,8 +69,7 @@ def build_buses(design: Design, rails: Mapping[str, Rail], conn: Connectivity, p
                 seg_ids[key] = sid
                 upstream = Upstream(sp.ref, sp.kind, sp.channel)
             segments.append(_segment(design, conn, seg_ids[key], key, pairing.accepted[key], upstream,
-                                     roles, edges, bc if key == root else None,
-                                     set(pairing.candidates)))
+                                     roles, split_kind, bc if key == root else None, bus_lines))
         segments = _mark_controller(design, segments, roles)
         extra = bc.extra_capacitance_f if bc else 0.0
         kind = "config" if bc else _evidence_kind(pairing.candidates, order, pairing.accepted)
@@ -254,7 +255,7 @@ def _line(design: Design, conn: Connectivity, signal: str, ln: str, candidates_l
                 pulldowns=tuple(sorted(pulldowns, key=lambda p: (p.ref, p.net))))
 
 
-def _segment(design, conn, sid, sda_ln, scl_ln, upstream, roles, edges, bc,
+def _segment(design, conn, sid, sda_ln, scl_ln, upstream, roles, split_kind, bc,
              all_bus_lines) -> Segment:
     sda = _line(design, conn, "sda", sda_ln, all_bus_lines)
     scl = _line(design, conn, "scl", scl_ln, all_bus_lines)
@@ -262,7 +263,6 @@ def _segment(design, conn, sid, sda_ln, scl_ln, upstream, roles, edges, bc,
         op = bc.offboard_pullup
         sda = _with_offboard(sda, op)
         scl = _with_offboard(scl, op)
-    split_kind = {sp.ref: sp.kind for _a, _b, sp in edges}
     pins_by_ref: dict[str, list[DevicePin]] = defaultdict(list)
     for line in (sda, scl):
         for net in line.nets:
