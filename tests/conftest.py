@@ -20,6 +20,16 @@ REPO_ROOT = Path(__file__).resolve().parents[1]
 REAL_DESIGNS = REPO_ROOT / ".." / "shared" / "real-designs"
 # KiCad's own demo projects (Debian package kicad-demos).
 KICAD_DEMOS = Path("/usr/share/kicad/demos")
+# The 23 rule ids of CONTRACT.md's table "Rules (stable ids, default severity)", copied from
+# it by hand (not from netaudit, so the tests compare the code against the contract).
+CONTRACT_RULES = frozenset({
+    "bus-line-unpaired", "bus-lines-swapped", "bus-pin-unconnected", "bus-lone-device",
+    "pullup-missing", "pullup-duplicated", "pullup-parallel", "pullup-rail-mismatch",
+    "pullup-to-signal", "pullup-too-strong", "pullup-too-weak", "capacitance-over-limit",
+    "low-level-margin", "rail-overvoltage", "rail-high-level-unmet", "rail-voltage-unknown",
+    "translator-wiring", "address-collision", "address-reserved", "address-strap-floating",
+    "address-unknown", "mux-address-overlap", "speed-unsupported",
+})
 
 if str(REPO_ROOT) not in sys.path:  # the package, also when pytest runs from elsewhere
     sys.path.insert(0, str(REPO_ROOT))

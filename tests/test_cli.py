@@ -16,6 +16,7 @@ import sys
 from pathlib import Path
 
 import pytest
+from conftest import CONTRACT_RULES
 from handmade import build, ic, res
 
 from netaudit.checks import all_rules
@@ -23,17 +24,6 @@ from netaudit.config import RULE_IDS, parse_config
 from netaudit.model import Design
 
 REPO = Path(__file__).resolve().parents[1]
-
-# The 23 rule ids of CONTRACT.md's rules table, copied from it.
-CONTRACT_RULES = {
-    "bus-line-unpaired", "bus-lines-swapped", "bus-pin-unconnected", "bus-lone-device",
-    "pullup-missing", "pullup-duplicated", "pullup-parallel", "pullup-rail-mismatch",
-    "pullup-to-signal", "pullup-too-strong", "pullup-too-weak", "capacitance-over-limit",
-    "low-level-margin", "rail-overvoltage", "rail-high-level-unmet", "rail-voltage-unknown",
-    "translator-wiring", "address-collision", "address-reserved", "address-strap-floating",
-    "address-unknown", "mux-address-overlap", "speed-unsupported",
-}
-
 
 # -- writing a hand-made design as a KiCad netlist ----------------------------------
 

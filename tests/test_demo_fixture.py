@@ -17,6 +17,7 @@ from pathlib import Path
 
 import pytest
 import yaml
+from conftest import CONTRACT_RULES
 
 from netaudit.readers import read_design, sexpr
 from netaudit.units import parse_value
@@ -28,15 +29,6 @@ REAL = REPO / ".." / "shared" / "real-designs"
 REAL_KICAD9 = REAL / "battery-bms-kicad9" / "netlist-kicad-9.0.8" / "bms-c1.net"
 REAL_REUSED_SHEET = REAL / "usb-interface-explorer" / "netlist-kicad-9.0.8" / "glasgow.net"
 
-# Rule ids: CONTRACT.md, "Rules (stable ids, default severity)".
-CONTRACT_RULES = {
-    "bus-line-unpaired", "bus-lines-swapped", "bus-pin-unconnected", "bus-lone-device",
-    "pullup-missing", "pullup-duplicated", "pullup-parallel", "pullup-rail-mismatch",
-    "pullup-to-signal", "pullup-too-strong", "pullup-too-weak", "capacitance-over-limit",
-    "low-level-margin", "rail-overvoltage", "rail-high-level-unmet", "rail-voltage-unknown",
-    "translator-wiring", "address-collision", "address-reserved", "address-strap-floating",
-    "address-unknown", "mux-address-overlap", "speed-unsupported",
-}
 # Top-level keys of netaudit.yaml version 1: CONTRACT.md, "netaudit.yaml (version 1)".
 CONTRACT_CONFIG_KEYS = {"version", "rails", "defaults", "buses", "traces", "parts", "waivers"}
 
